@@ -1,0 +1,65 @@
+# tonebank -- the two commands on a fresh machine are `make demo` and `make test`.
+# Both create .venv with the package and its compiled kernel, and are quick the
+# second time (stamps in .venv record what is installed and from which sources).
+
+PYTHON ?= python3
+VENV   ?= .venv
+BIN    := $(VENV)/bin
+PIP    := $(BIN)/python -m pip --disable-pip-version-check
+
+# Everything the installed package is built from: a change reinstalls it.
+SOURCES := $(shell find src csrc -type f \( -name '*.py' -o -name '*.c' -o -name '*.h' \) \
+             -not -path 'csrc/build/*' 2>/dev/null) pyproject.toml setup.py MANIFEST.in
+
+SPHINX := $(BIN)/python -m sphinx -q -W --keep-going -n
+
+.PHONY: demo test ctest pytest docs doctest bench clean distclean
+
+demo: $(VENV)/.installed-demo
+	$(BIN)/python -m tonebank demo
+
+# make test: standalone C tests under sanitizers, the Python suite on both
+# backends, and the strict docs build with doctests.  TONEBANK_REQUIRE_C=1
+# makes a failed kernel build (or a missing kernel at run time) an error.
+test: export TONEBANK_REQUIRE_C = 1
+test: ctest pytest docs
+
+ctest:
+	$(MAKE) -C csrc test
+	$(MAKE) -C csrc test-clang
+
+pytest: $(VENV)/.installed-test
+	$(BIN)/python -m pytest -q
+
+docs: $(VENV)/.installed-test
+	$(SPHINX) -b html docs docs/_build/html
+	$(SPHINX) -b doctest docs docs/_build/doctest
+
+bench: $(VENV)/.installed-bench
+	$(BIN)/python -m pytest benchmarks -q --benchmark-only \
+	    --benchmark-json=benchmarks/.results.json -p no:randomly
+	$(BIN)/python benchmarks/report.py benchmarks/.results.json
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(PIP) install -q --upgrade pip setuptools wheel "cffi>=1.15"
+
+# One stamp per set of extras; each depends on the package sources.
+$(VENV)/.installed-demo: $(BIN)/python $(SOURCES)
+	$(PIP) install -q --no-build-isolation .
+	touch $@
+
+$(VENV)/.installed-test: $(BIN)/python $(SOURCES)
+	$(PIP) install -q --no-build-isolation ".[test,docs]"
+	touch $@
+
+$(VENV)/.installed-bench: $(BIN)/python $(SOURCES)
+	$(PIP) install -q --no-build-isolation ".[test,bench]"
+	touch $@
+
+clean:
+	rm -rf build docs/_build src/*.egg-info benchmarks/.results.json .pytest_cache .hypothesis
+	$(MAKE) -C csrc clean
+
+distclean: clean
+	rm -rf $(VENV)

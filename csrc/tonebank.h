@@ -1,0 +1,125 @@
+/*
+ * tonebank.h -- the public interface of the tonebank C kernel.
+ *
+ * Portable C99, no dependency but libm.  This header is the contract
+ * between the kernel and everything that calls it (the Python binding,
+ * a firmware build, the standalone tests).
+ *
+ * Conventions
+ * -----------
+ *  - Every exported name starts with tb_ / TB_.
+ *  - Complex data are interleaved (re, im) pairs of float or double;
+ *    there is no _Complex in the interface.
+ *  - Lengths are size_t.  Strides are ptrdiff_t counted in complex
+ *    elements (not bytes, not scalars) and may be negative or zero
+ *    where that makes sense (see each function).
+ *  - Plans are created once, are immutable afterwards and may be shared
+ *    by any number of threads.  Execute calls never allocate, print or
+ *    abort; they use caller-owned buffers and return a status.
+ *  - Every function that can fail returns an int status: TB_OK (0) on
+ *    success, one of the TB_ERR_* codes otherwise; tb_strerror() turns
+ *    a status into a static, human-readable string.
+ *
+ * Sign and scaling convention of the FFT
+ * --------------------------------------
+ *    forward:  X[k] = scale * sum_{j=0}^{n-1} x[j] exp(-2 pi i j k / n)
+ *    inverse:  x[j] = scale * sum_{k=0}^{n-1} X[k] exp(+2 pi i j k / n)
+ *  The caller chooses `scale` (1, 1/n, 1/sqrt(n), ...).
+ *
+ * The block between the two "cffi declarations" markers below contains
+ * plain declarations only; the Python build reads it verbatim as its
+ * cffi cdef, so keep it free of preprocessor conditionals and macros
+ * other than integer #defines.
+ */
+#ifndef TONEBANK_H
+#define TONEBANK_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ---- begin cffi declarations ---- */
+
+/* Status codes returned by every fallible function. */
+#define TB_OK 0
+#define TB_ERR_NULL 1      /* a required pointer argument is NULL */
+#define TB_ERR_SIZE 2      /* size unsupported: 0, > TB_FFT_MAX_SIZE, or not 2^a 3^b 5^c */
+#define TB_ERR_PRECISION 3 /* unknown precision code, or plan/function precision mismatch */
+#define TB_ERR_DIRECTION 4 /* direction is neither TB_FORWARD nor TB_INVERSE */
+#define TB_ERR_NOMEM 5     /* plan allocation failed */
+#define TB_ERR_ARG 6       /* another argument is invalid (e.g. a stride of 0 with n > 1) */
+
+/* Precision codes. */
+#define TB_FLOAT32 1
+#define TB_FLOAT64 2
+
+/* Transform directions. */
+#define TB_FORWARD -1
+#define TB_INVERSE 1
+
+/* Largest transform size a plan accepts. */
+#define TB_FFT_MAX_SIZE 1048576
+
+/* Opaque, immutable FFT plan. */
+typedef struct tb_fft_plan tb_fft_plan;
+
+/* Static description of a status code; never NULL. */
+const char *tb_strerror(int status);
+
+/* Kernel version as "MAJOR.MINOR.PATCH". */
+const char *tb_version(void);
+
+/* 1 if a plan of size n can be created (1 <= n <= TB_FFT_MAX_SIZE and
+ * n = 2^a 3^b 5^c), 0 otherwise. */
+int tb_fft_size_supported(size_t n);
+
+/* Create a plan for complex transforms of size n in the given precision
+ * (TB_FLOAT32 or TB_FLOAT64).  On success *plan_out receives the plan and
+ * TB_OK is returned; on failure *plan_out is set to NULL (when plan_out is
+ * not NULL) and an error code is returned.  The plan holds every table
+ * (factorisation, twiddles) in a single allocation. */
+int tb_fft_plan_create(size_t n, int precision, tb_fft_plan **plan_out);
+
+/* Release a plan; NULL is accepted and ignored. */
+void tb_fft_plan_destroy(tb_fft_plan *plan);
+
+/* Size and precision the plan was created with (0 for a NULL plan). */
+size_t tb_fft_plan_size(const tb_fft_plan *plan);
+int tb_fft_plan_precision(const tb_fft_plan *plan);
+
+/* Bytes of caller-owned workspace that tb_fft_execute_* needs with this
+ * plan, whatever the batch count and strides.  The workspace must be
+ * aligned for double and must not overlap the input or output. */
+size_t tb_fft_workspace_size(const tb_fft_plan *plan);
+
+/* Batched transform of `batch` rows of n = tb_fft_plan_size(plan) points.
+ *
+ * Element j of row b is read at in + 2 * (b * in_row_stride + j * in_stride)
+ * (scalars; strides are in complex elements) and written at
+ * out + 2 * (b * out_row_stride + j * out_stride).
+ *
+ * In place is allowed when in and out describe exactly the same elements
+ * (same pointer and strides); any other overlap between in and out is
+ * undefined.  work must provide tb_fft_workspace_size(plan) bytes.
+ * direction is TB_FORWARD or TB_INVERSE; every output is multiplied by
+ * scale.  The _f32 function requires a TB_FLOAT32 plan and the _f64
+ * function a TB_FLOAT64 plan (TB_ERR_PRECISION otherwise). */
+int tb_fft_execute_f32(const tb_fft_plan *plan, int direction, size_t batch,
+                       const float *in, ptrdiff_t in_row_stride, ptrdiff_t in_stride,
+                       float *out, ptrdiff_t out_row_stride, ptrdiff_t out_stride,
+                       float scale, void *work);
+int tb_fft_execute_f64(const tb_fft_plan *plan, int direction, size_t batch,
+                       const double *in, ptrdiff_t in_row_stride, ptrdiff_t in_stride,
+                       double *out, ptrdiff_t out_row_stride, ptrdiff_t out_stride,
+                       double scale, void *work);
+
+/* ---- end cffi declarations ---- */
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* TONEBANK_H */

@@ -1,0 +1,28 @@
+"""tonebank: prototype multicarrier (OFDM-family) modems in Python.
+
+The library covers the physical layer of a multicarrier modem, from
+subcarrier plans to error-rate sweeps, on a small portable C kernel
+(with a numpy fallback giving the same numbers).  See the documentation
+for the guide and the API reference.
+"""
+
+from ._kernel import (
+    BackendInfo,
+    BackendUnavailableError,
+    backend_info,
+    set_backend,
+    use_backend,
+)
+from .transforms import fft
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "BackendInfo",
+    "BackendUnavailableError",
+    "__version__",
+    "backend_info",
+    "fft",
+    "set_backend",
+    "use_backend",
+]

@@ -1,0 +1,107 @@
+"""cffi builder for the tonebank C kernel (out-of-line API mode).
+
+The package build (``pip install .``) calls :func:`make_builder` through
+setuptools' ``cffi_modules`` hook; nothing here runs at import time of
+:mod:`tonebank`, and importing this module has no side effect.
+
+The cdef is the block of ``csrc/tonebank.h`` between the markers
+``---- begin cffi declarations ----`` and ``---- end cffi declarations ----``,
+read verbatim: the public header stays the single contract, and the only
+reason for the markers is that cffi's parser does not accept the include
+guard and ``#include`` lines a real C header needs around the declarations.
+
+Compiler flags are portable by default (``-O3``, no ``-march=native``).
+Set ``TONEBANK_CFLAGS`` (a shell-style string, e.g. ``"-march=native"``) to
+tune the build for a target CPU; the flags actually used are compiled into
+the module and reported by :func:`tonebank.backend_info`.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shlex
+from pathlib import Path
+
+import cffi
+
+#: Flags used for every build; portable across CPUs of one architecture.
+#: ``-fno-math-errno`` lets sqrt/sin/cos inline without changing results
+#: (the kernel never reads errno); ``-ffast-math`` is deliberately absent
+#: because it would break NaN/inf propagation and IEEE rounding.
+DEFAULT_CFLAGS = ("-O3", "-fno-math-errno")
+
+_HERE = Path(__file__).resolve().parent
+_CSRC = _HERE.parent.parent / "csrc"
+_BEGIN = "/* ---- begin cffi declarations ---- */"
+_END = "/* ---- end cffi declarations ---- */"
+
+#: Declarations of the two build-information functions defined in the
+#: module source below (not part of the portable kernel).
+_BUILD_INFO_CDEF = """
+const char *tbpy_compiler(void);
+const char *tbpy_cflags(void);
+"""
+
+
+def header_declarations(header_path: Path | None = None) -> str:
+    """Return the cffi declarations block of the public header, verbatim."""
+    path = Path(header_path) if header_path is not None else _CSRC / "tonebank.h"
+    text = path.read_text(encoding="utf-8")
+    begin, end = text.find(_BEGIN), text.find(_END)
+    if begin < 0 or end < begin:
+        raise RuntimeError(f"{path}: cffi declaration markers not found")
+    return text[begin + len(_BEGIN):end]
+
+
+def build_cflags() -> list[str]:
+    """Default flags followed by the user's ``TONEBANK_CFLAGS``."""
+    if os.name == "nt":  # MSVC spells optimisation differently
+        flags = ["/O2"]
+    else:
+        flags = list(DEFAULT_CFLAGS)
+    flags += shlex.split(os.environ.get("TONEBANK_CFLAGS", ""))
+    return flags
+
+
+def _c_string(text: str) -> str:
+    """Quote *text* as a C string literal."""
+    return '"' + re.sub(r'(["\\])', r"\\\1", text) + '"'
+
+
+def make_builder() -> cffi.FFI:
+    """Return the configured :class:`cffi.FFI` builder."""
+    # setuptools insists on paths relative to the setup.py directory, which
+    # is the working directory of a package build.
+    sources = sorted(Path(os.path.relpath(p)).as_posix() for p in _CSRC.glob("tb_*.c"))
+    if not sources:
+        raise RuntimeError(f"no kernel sources (tb_*.c) found in {_CSRC}")
+    cflags = build_cflags()
+    module_source = f"""
+#include "tonebank.h"
+
+/* Build information baked in at compile time: what actually compiled
+ * this module, not what the Python side believes. */
+#ifdef __VERSION__
+static const char tbpy_compiler_text[] = __VERSION__;
+#else
+static const char tbpy_compiler_text[] = "unknown compiler";
+#endif
+const char *tbpy_compiler(void) {{ return tbpy_compiler_text; }}
+const char *tbpy_cflags(void) {{ return {_c_string(" ".join(cflags))}; }}
+"""
+    ffibuilder = cffi.FFI()
+    ffibuilder.cdef(header_declarations() + _BUILD_INFO_CDEF)
+    ffibuilder.set_source(
+        "tonebank._kernel._tonebank_c",
+        module_source,
+        sources=sources,
+        include_dirs=[Path(os.path.relpath(_CSRC)).as_posix()],
+        extra_compile_args=cflags,
+        libraries=[] if os.name == "nt" else ["m"],
+    )
+    return ffibuilder
+
+
+if __name__ == "__main__":  # pragma: no cover - manual use from the repository root
+    make_builder().compile(verbose=True)

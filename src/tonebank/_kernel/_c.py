@@ -1,0 +1,162 @@
+"""C implementation of the kernel interface, through the cffi-built module.
+
+This is the only module of the package that touches cffi.  It turns numpy
+arrays into pointers and strides, keeps a cache of immutable C plans, and
+gives every thread its own workspace, so calls from several threads run
+in parallel (cffi releases the GIL around each C call).
+
+Importing this module raises ImportError when the compiled kernel is
+absent; :mod:`tonebank._kernel` handles that.
+"""
+
+from __future__ import annotations
+
+import threading
+
+import numpy as np
+
+from ._tonebank_c import ffi, lib
+from . import _numpy
+
+NAME = "c"
+
+#: Sizes that the C kernel could not plan and that ran on numpy instead.
+fallback_sizes: set[int] = set()
+
+_plans: dict = {}          # (n, dtype char) -> _Plan, or None if unsupported
+_plans_lock = threading.Lock()
+_thread = threading.local()  # per-thread workspace
+
+
+class KernelError(RuntimeError):
+    """A non-zero status from the C kernel after Python-side validation.
+
+    Python validates every argument before calling C, so this signals a
+    bug in tonebank, not a user error.
+    """
+
+
+def _status_text(status: int) -> str:
+    return ffi.string(lib.tb_strerror(status)).decode("ascii", "replace")
+
+
+def _check(status: int, what: str) -> None:
+    if status != lib.TB_OK:
+        raise KernelError(f"tonebank C kernel: {what} failed: {_status_text(status)} "
+                          f"(status {status}); please report this as a bug")
+
+
+class _Plan:
+    """A C FFT plan with what a call needs, resolved once."""
+
+    __slots__ = ("handle", "execute", "work_nbytes", "array_type", "pointer_type")
+
+    def __init__(self, n: int, single: bool):
+        precision = lib.TB_FLOAT32 if single else lib.TB_FLOAT64
+        out = ffi.new("tb_fft_plan **")
+        _check(lib.tb_fft_plan_create(n, precision, out), f"planning an FFT of size {n}")
+        self.handle = ffi.gc(out[0], lib.tb_fft_plan_destroy)
+        self.execute = lib.tb_fft_execute_f32 if single else lib.tb_fft_execute_f64
+        self.work_nbytes = lib.tb_fft_workspace_size(self.handle)
+        scalar = "float" if single else "double"
+        self.array_type = scalar + "[]"
+        self.pointer_type = scalar + " *"
+
+
+def _plan(n: int, dtype: np.dtype):
+    key = (n, dtype.char)
+    try:
+        return _plans[key]
+    except KeyError:
+        pass
+    with _plans_lock:
+        if key not in _plans:
+            if lib.tb_fft_size_supported(n):
+                _plans[key] = _Plan(n, dtype == np.complex64)
+            else:
+                _plans[key] = None
+                fallback_sizes.add(n)
+        return _plans[key]
+
+
+def _workspace(nbytes: int):
+    """This thread's workspace, grown to at least *nbytes* bytes."""
+    buf = getattr(_thread, "buf", None)
+    if buf is None or _thread.nbytes < nbytes:
+        # double[] guarantees the alignment the kernel asks for.
+        buf = ffi.new("double[]", max(1, -(-nbytes // 8)))
+        _thread.buf, _thread.nbytes = buf, nbytes
+    return buf
+
+
+def _rows(arr: np.ndarray):
+    """Describe *arr* (..., n) as ``(batch, row_stride, stride)`` in elements.
+
+    Returns None when the leading axes cannot be expressed with a single
+    row stride (or a stride is not a whole number of elements); the caller
+    then copies.
+    """
+    itemsize = arr.itemsize
+    strides = arr.strides
+    batch, row_stride, span = 1, 0, None
+    for dim, stride in zip(arr.shape[-2::-1], strides[-2::-1]):
+        if dim == 1:
+            continue
+        if span is None:
+            row_stride = stride
+        elif stride != span:
+            return None
+        span = stride * dim
+        batch *= dim
+    stride = strides[-1]
+    if row_stride % itemsize or stride % itemsize:
+        return None
+    return batch, row_stride // itemsize, stride // itemsize
+
+
+def _pointer(arr: np.ndarray, plan: _Plan):
+    if arr.flags.c_contiguous:
+        return ffi.from_buffer(plan.array_type, arr)
+    # Strided views (including negative strides) are not buffers cffi can
+    # take; address the first element directly.  The caller keeps *arr*
+    # alive for the duration of the call.
+    return ffi.cast(plan.pointer_type, arr.ctypes.data)
+
+
+def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
+    """``out[...] = scale * DFT(x)`` along the last axis (see the interface)."""
+    plan = _plan(x.shape[-1], x.dtype)
+    if plan is None:
+        _numpy.fft(x, out, inverse, scale)
+        return
+    if x.size == 0:
+        return
+    x_rows = _rows(x)
+    if x_rows is None:
+        x = np.ascontiguousarray(x)
+        x_rows = _rows(x)
+    target = out
+    out_rows = _rows(out)
+    if out_rows is None:
+        target = np.empty(out.shape, out.dtype)
+        out_rows = _rows(target)
+    status = plan.execute(
+        plan.handle, lib.TB_INVERSE if inverse else lib.TB_FORWARD, x_rows[0],
+        _pointer(x, plan), x_rows[1], x_rows[2],
+        _pointer(target, plan), out_rows[1], out_rows[2],
+        scale, _workspace(plan.work_nbytes),
+    )
+    _check(status, "an FFT")
+    if target is not out:
+        out[...] = target
+
+
+def info() -> dict:
+    """Facts about this backend for :func:`tonebank.backend_info`."""
+    return {
+        "c_kernel_version": ffi.string(lib.tb_version()).decode(),
+        "c_compiler": ffi.string(lib.tbpy_compiler()).decode(),
+        "c_flags": ffi.string(lib.tbpy_cflags()).decode(),
+        "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
+        "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
+    }

@@ -1,0 +1,39 @@
+"""The command line: ``tonebank demo`` and ``tonebank info``."""
+
+import subprocess
+import sys
+
+import pytest
+
+from tonebank import cli
+
+
+def test_demo_self_check_passes(capsys):
+    assert cli.main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "backend" in out
+    n = len(cli.SELF_CHECK_SIZES) * 4
+    assert f"{n} of {n} checks passed" in out
+
+
+def test_info_prints_the_report(capsys):
+    assert cli.main(["info"]) == 0
+    assert "fft_sizes" in capsys.readouterr().out
+
+
+def test_no_command_prints_help_and_fails(capsys):
+    assert cli.main([]) == 2
+    assert "usage" in capsys.readouterr().err
+
+
+def test_unknown_command_is_an_error():
+    with pytest.raises(SystemExit) as exc:
+        cli.main(["dance"])
+    assert exc.value.code == 2
+
+
+def test_module_entry_point_runs():
+    r = subprocess.run([sys.executable, "-m", "tonebank", "info"], capture_output=True,
+                       text=True, timeout=120)
+    assert r.returncode == 0, r.stderr
+    assert "backend" in r.stdout
