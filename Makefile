@@ -11,6 +11,12 @@ PIP    := $(BIN)/python -m pip --disable-pip-version-check
 SOURCES := $(shell find src csrc -type f \( -name '*.py' -o -name '*.c' -o -name '*.h' \) \
              -not -path 'csrc/build/*' 2>/dev/null) pyproject.toml setup.py MANIFEST.in
 
+# The kernel's compiler flags are part of what is installed: record them so
+# that `TONEBANK_CFLAGS=... make bench` rebuilds when they change.
+CFLAGS_STAMP := $(VENV)/.tonebank-cflags
+$(shell mkdir -p $(VENV) && (printf '%s\n' "$$TONEBANK_CFLAGS" | cmp -s - $(CFLAGS_STAMP) \
+          || printf '%s\n' "$$TONEBANK_CFLAGS" > $(CFLAGS_STAMP)))
+
 SPHINX := $(BIN)/python -m sphinx -q -W --keep-going -n
 
 .PHONY: demo test ctest pytest docs doctest bench clean distclean
@@ -37,7 +43,9 @@ docs: $(VENV)/.installed-test
 
 bench: $(VENV)/.installed-bench
 	$(BIN)/python -m pytest benchmarks -q --benchmark-only \
-	    --benchmark-json=benchmarks/.results.json -p no:randomly
+	    --benchmark-json=benchmarks/.results.json -p no:randomly \
+	    --benchmark-max-time=0.5 --benchmark-min-rounds=5 \
+	    --benchmark-disable-gc --benchmark-quiet
 	$(BIN)/python benchmarks/report.py benchmarks/.results.json
 
 $(BIN)/python:
@@ -45,20 +53,20 @@ $(BIN)/python:
 	$(PIP) install -q --upgrade pip setuptools wheel "cffi>=1.15"
 
 # One stamp per set of extras; each depends on the package sources.
-$(VENV)/.installed-demo: $(BIN)/python $(SOURCES)
+$(VENV)/.installed-demo: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
 	$(PIP) install -q --no-build-isolation .
 	touch $@
 
-$(VENV)/.installed-test: $(BIN)/python $(SOURCES)
+$(VENV)/.installed-test: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
 	$(PIP) install -q --no-build-isolation ".[test,docs]"
 	touch $@
 
-$(VENV)/.installed-bench: $(BIN)/python $(SOURCES)
+$(VENV)/.installed-bench: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
 	$(PIP) install -q --no-build-isolation ".[test,bench]"
 	touch $@
 
 clean:
-	rm -rf build docs/_build src/*.egg-info benchmarks/.results.json .pytest_cache .hypothesis
+	rm -rf build docs/_build docs/api/generated src/*.egg-info benchmarks/.results.json .pytest_cache .hypothesis
 	$(MAKE) -C csrc clean
 
 distclean: clean

@@ -90,9 +90,18 @@ void tb_fft_plan_destroy(tb_fft_plan *plan);
 size_t tb_fft_plan_size(const tb_fft_plan *plan);
 int tb_fft_plan_precision(const tb_fft_plan *plan);
 
+/* Which compiled copy of the kernels the plan runs: "avx2" (x86-64 CPUs
+ * with AVX2, when the kernel was built with gcc or clang) or "portable"
+ * (plain C99 compiled for the build's baseline target).  Both give
+ * bit-identical results.  A static string; "" for a NULL plan. */
+const char *tb_fft_plan_simd(const tb_fft_plan *plan);
+
 /* Bytes of caller-owned workspace that tb_fft_execute_* needs with this
- * plan, whatever the batch count and strides.  The workspace must be
- * aligned for double and must not overlap the input or output. */
+ * plan, whatever the batch count and strides (currently 4 * h scalars
+ * of the plan's precision, h = n plus at most 112, or 8 n when n <= 64;
+ * 0 for a NULL plan).
+ * The workspace must be aligned for double and must not overlap the
+ * input or output.  One workspace per concurrent caller. */
 size_t tb_fft_workspace_size(const tb_fft_plan *plan);
 
 /* Batched transform of `batch` rows of n = tb_fft_plan_size(plan) points.
@@ -106,7 +115,22 @@ size_t tb_fft_workspace_size(const tb_fft_plan *plan);
  * undefined.  work must provide tb_fft_workspace_size(plan) bytes.
  * direction is TB_FORWARD or TB_INVERSE; every output is multiplied by
  * scale.  The _f32 function requires a TB_FLOAT32 plan and the _f64
- * function a TB_FLOAT64 plan (TB_ERR_PRECISION otherwise). */
+ * function a TB_FLOAT64 plan (TB_ERR_PRECISION otherwise).
+ *
+ * Argument rules (checked in this order; nothing is written on error):
+ *   TB_ERR_NULL       plan, in, out or work is NULL (even when batch == 0);
+ *   TB_ERR_PRECISION  plan precision does not match the function;
+ *   TB_ERR_DIRECTION  direction is not TB_FORWARD / TB_INVERSE;
+ *   TB_ERR_ARG        in_stride or out_stride is 0 while n > 1, or
+ *                     out_row_stride is 0 while batch > 1, or in / out
+ *                     is not aligned for its scalar type, or work is not
+ *                     aligned for double.
+ * in_row_stride may be 0 (every row transforms the same input row).
+ * batch == 0 is a successful no-op.  NaN and infinity in the input
+ * propagate to the outputs they touch; nothing traps.  Built without
+ * FMA contraction (see tb_fft.c), the results do not depend on the
+ * thread, and the AVX2 and baseline kernels of x86-64 give bit-identical
+ * results. */
 int tb_fft_execute_f32(const tb_fft_plan *plan, int direction, size_t batch,
                        const float *in, ptrdiff_t in_row_stride, ptrdiff_t in_stride,
                        float *out, ptrdiff_t out_row_stride, ptrdiff_t out_stride,

@@ -43,6 +43,7 @@ def test_backend_info_reports_the_active_backend(backend):
         assert re.fullmatch(r"\d+\.\d+\.\d+", info["c_kernel_version"])
         assert "-O" in info["c_flags"] or "/O" in info["c_flags"]
         assert info["c_compiler"]
+        assert info["c_simd"] in ("avx2", "portable")
         assert info["c_fft_max_size"] >= 65536
 
 

@@ -292,3 +292,69 @@ def test_rejects_bad_out():
 def test_zero_rows_batch():
     got = tonebank.fft(np.zeros((0, 64), np.complex64))
     assert got.shape == (0, 64) and got.dtype == np.complex64
+
+
+# -- FftPlan: the prepared form, checked against numpy.fft as above ----------
+
+@pytest.mark.parametrize("dtype", [np.complex128, np.complex64])
+@pytest.mark.parametrize("n", [1, 64, 960, 4096, 97])
+@pytest.mark.parametrize("inverse", [False, True])
+@pytest.mark.parametrize("norm", [None, "ortho", "forward"])
+def test_plan_matches_numpy(n, dtype, inverse, norm):
+    rng = np.random.default_rng(n)
+    plan = tonebank.FftPlan(n, dtype=dtype, inverse=inverse, norm=norm)
+    for x in (_signal(rng, n, dtype), _signal(rng, (3, 2, n), dtype),
+              _signal(rng, (4, 2 * n), dtype)[:, ::2]):
+        got = plan(x)
+        _assert_close(got, _reference(x, inverse=inverse, norm=norm), dtype)
+
+
+def test_plan_out_in_place_and_overlap():
+    rng = np.random.default_rng(20)
+    plan = tonebank.FftPlan(64)
+    x = _signal(rng, (2, 64), np.complex128)
+    ref = _reference(x)
+    y = x.copy()
+    assert plan(y, out=y) is y
+    _assert_close(y, ref, np.complex128)
+    buf = np.concatenate([x[0], [0]])
+    plan(buf[:64], out=buf[1:])
+    _assert_close(buf[1:], ref[0], np.complex128)
+
+
+def test_plan_accepts_real_input_of_its_precision():
+    plan = tonebank.FftPlan(8, dtype=np.complex64)
+    got = plan(np.ones(8, np.float32))
+    assert got.dtype == np.complex64
+    _assert_close(got, _reference(np.ones(8)), np.complex64)
+
+
+def test_plan_records_its_backend_and_is_immutable(backend):
+    plan = tonebank.FftPlan(16)
+    assert plan.backend == backend
+    assert (plan.n, plan.dtype, plan.inverse, plan.norm) == (16, np.complex128, False, None)
+    assert "FftPlan(16" in repr(plan)
+    with pytest.raises(AttributeError, match="immutable"):
+        plan.n = 32
+
+
+def test_plan_rejects_bad_arguments():
+    with pytest.raises(TypeError, match="n must be an integer"):
+        tonebank.FftPlan(64.0)
+    with pytest.raises(ValueError, match="n=0 is not allowed"):
+        tonebank.FftPlan(0)
+    with pytest.raises(TypeError, match="dtype=.* is not allowed"):
+        tonebank.FftPlan(64, dtype=np.float64)
+    with pytest.raises(TypeError, match="dtype=.* is not allowed"):
+        tonebank.FftPlan(64, dtype="nonsense")
+    with pytest.raises(ValueError, match="norm='both' is not allowed"):
+        tonebank.FftPlan(64, norm="both")
+    plan = tonebank.FftPlan(64)
+    with pytest.raises(ValueError, match=r"x has shape \(32,\); this plan transforms"):
+        plan(np.zeros(32, complex))
+    with pytest.raises(ValueError, match=r"x has shape \(\)"):
+        plan(np.complex128(1))
+    with pytest.raises(TypeError, match="x has dtype complex64; this plan takes complex128"):
+        plan(np.zeros(64, np.complex64))
+    with pytest.raises(TypeError, match="out has dtype"):
+        plan(np.zeros(64, complex), out=np.zeros(64, np.complex64))

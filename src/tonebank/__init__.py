@@ -13,13 +13,14 @@ from ._kernel import (
     set_backend,
     use_backend,
 )
-from .transforms import fft
+from .transforms import FftPlan, fft
 
 __version__ = "0.1.0"
 
 __all__ = [
     "BackendInfo",
     "BackendUnavailableError",
+    "FftPlan",
     "__version__",
     "backend_info",
     "fft",

@@ -10,6 +10,7 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 
 import numpy as np
@@ -91,4 +92,10 @@ def main(argv=None) -> int:
     if getattr(args, "run", None) is None:
         parser.print_help(sys.stderr)
         return 2
-    return args.run(args)
+    try:
+        return args.run(args)
+    except BrokenPipeError:
+        # The reader went away (e.g. `tonebank info | head`): stop quietly.
+        # Point stdout at devnull so the interpreter's final flush is silent.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 1

@@ -18,6 +18,10 @@ Each implementation module provides:
     complex128, any strides; ``out`` is writeable and is either ``x``
     itself (in place) or does not overlap it.  The public wrapper
     (:func:`tonebank.fft`) validates all of this before the call.
+``fft_runner(n, dtype, inverse, scale) -> run``
+    Prepare ``run(x, out)``, which does what ``fft(x, out, inverse, scale)``
+    does for arrays of that last-axis length ``n`` and dtype, with the
+    per-call work (plan look-up, constants) done once.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 
@@ -213,6 +217,10 @@ class BackendInfo(Mapping):
         Whether the compiled C kernel loaded, and if not, why.
     ``c_kernel_version``, ``c_compiler``, ``c_flags``, ``c_fft_max_size``
         Facts compiled into the C kernel (present when it is available).
+    ``c_simd``
+        Which compiled copy of the C kernels runs on this CPU: ``"avx2"``
+        (x86-64 with AVX2, builds by gcc or clang) or ``"portable"``; both
+        give bit-identical results.
     ``fft_sizes``
         Which transform sizes each backend computes.
     ``numpy_fallback_sizes``

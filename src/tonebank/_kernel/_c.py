@@ -25,7 +25,16 @@ fallback_sizes: set[int] = set()
 
 _plans: dict = {}          # (n, dtype char) -> _Plan, or None if unsupported
 _plans_lock = threading.Lock()
-_thread = threading.local()  # per-thread workspace
+
+
+class _ThreadWorkspace(threading.local):
+    """Per-thread scratch buffer for the kernel (grown on demand)."""
+
+    nbytes = -1
+    buf = None
+
+
+_thread = _ThreadWorkspace()
 
 
 class KernelError(RuntimeError):
@@ -59,20 +68,17 @@ class _Plan:
         self.execute = lib.tb_fft_execute_f32 if single else lib.tb_fft_execute_f64
         self.work_nbytes = lib.tb_fft_workspace_size(self.handle)
         scalar = "float" if single else "double"
-        self.array_type = scalar + "[]"
-        self.pointer_type = scalar + " *"
+        self.array_type = ffi.typeof(scalar + "[]")
+        self.pointer_type = ffi.typeof(scalar + " *")
 
 
-def _plan(n: int, dtype: np.dtype):
-    key = (n, dtype.char)
-    try:
-        return _plans[key]
-    except KeyError:
-        pass
+def _new_plan(key):
+    """Create (or find) the plan for ``key = (n, dtype char)``; None if unsupported."""
     with _plans_lock:
         if key not in _plans:
+            n = key[0]
             if lib.tb_fft_size_supported(n):
-                _plans[key] = _Plan(n, dtype == np.complex64)
+                _plans[key] = _Plan(n, key[1] == "F")
             else:
                 _plans[key] = None
                 fallback_sizes.add(n)
@@ -81,12 +87,11 @@ def _plan(n: int, dtype: np.dtype):
 
 def _workspace(nbytes: int):
     """This thread's workspace, grown to at least *nbytes* bytes."""
-    buf = getattr(_thread, "buf", None)
-    if buf is None or _thread.nbytes < nbytes:
+    if _thread.nbytes < nbytes:
         # double[] guarantees the alignment the kernel asks for.
-        buf = ffi.new("double[]", max(1, -(-nbytes // 8)))
-        _thread.buf, _thread.nbytes = buf, nbytes
-    return buf
+        _thread.buf = ffi.new("double[]", max(1, -(-nbytes // 8)))
+        _thread.nbytes = nbytes
+    return _thread.buf
 
 
 def _rows(arr: np.ndarray):
@@ -96,6 +101,9 @@ def _rows(arr: np.ndarray):
     row stride (or a stride is not a whole number of elements); the caller
     then copies.
     """
+    if arr.flags.c_contiguous:
+        n = arr.shape[-1]
+        return arr.size // n, n, 1
     itemsize = arr.itemsize
     strides = arr.strides
     batch, row_stride, span = 1, 0, None
@@ -116,39 +124,89 @@ def _rows(arr: np.ndarray):
 
 def _pointer(arr: np.ndarray, plan: _Plan):
     if arr.flags.c_contiguous:
-        return ffi.from_buffer(plan.array_type, arr)
+        return _from_buffer(plan.array_type, arr)
     # Strided views (including negative strides) are not buffers cffi can
     # take; address the first element directly.  The caller keeps *arr*
     # alive for the duration of the call.
     return ffi.cast(plan.pointer_type, arr.ctypes.data)
 
 
+_from_buffer = ffi.from_buffer
+_FORWARD, _INVERSE = lib.TB_FORWARD, lib.TB_INVERSE
+
+
 def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
     """``out[...] = scale * DFT(x)`` along the last axis (see the interface)."""
-    plan = _plan(x.shape[-1], x.dtype)
+    # This function is on the path of every single-symbol call, so the
+    # common case (known plan, contiguous arrays) is kept short.
+    key = (x.shape[-1], x.dtype.char)
+    plan = _plans.get(key)
     if plan is None:
-        _numpy.fft(x, out, inverse, scale)
-        return
-    if x.size == 0:
+        plan = _new_plan(key)
+        if plan is None:
+            _numpy.fft(x, out, inverse, scale)
+            return
+    if x.flags.c_contiguous and out.flags.c_contiguous:
+        # Fast path: whole rows back to back on both sides.
+        n = key[0]
+        batch = x.size // n
+        if batch:
+            status = plan.execute(
+                plan.handle, _INVERSE if inverse else _FORWARD, batch,
+                _from_buffer(plan.array_type, x), n, 1,
+                _from_buffer(plan.array_type, out), n, 1,
+                scale, _thread.buf if _thread.nbytes >= plan.work_nbytes
+                else _workspace(plan.work_nbytes))
+            if status:
+                _check(status, "an FFT")
         return
     x_rows = _rows(x)
     if x_rows is None:
         x = np.ascontiguousarray(x)
         x_rows = _rows(x)
+    if x_rows[0] == 0:
+        return
     target = out
     out_rows = _rows(out)
     if out_rows is None:
         target = np.empty(out.shape, out.dtype)
         out_rows = _rows(target)
     status = plan.execute(
-        plan.handle, lib.TB_INVERSE if inverse else lib.TB_FORWARD, x_rows[0],
+        plan.handle, _INVERSE if inverse else _FORWARD, x_rows[0],
         _pointer(x, plan), x_rows[1], x_rows[2],
         _pointer(target, plan), out_rows[1], out_rows[2],
         scale, _workspace(plan.work_nbytes),
     )
-    _check(status, "an FFT")
+    if status:
+        _check(status, "an FFT")
     if target is not out:
         out[...] = target
+
+
+def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
+    """Return ``run(x, out)`` doing :func:`fft` for one prepared configuration."""
+    key = (n, dtype.char)
+    plan = _plans.get(key) or _new_plan(key)
+    if plan is None:
+        def run_numpy(x, out):
+            _numpy.fft(x, out, inverse, scale)
+        return run_numpy
+    execute, handle, array_type = plan.execute, plan.handle, plan.array_type
+    direction, need = (_INVERSE if inverse else _FORWARD), plan.work_nbytes
+
+    def run(x, out):
+        if x.flags.c_contiguous and out.flags.c_contiguous:
+            batch = x.size // n
+            if batch:
+                status = execute(handle, direction, batch,
+                                 _from_buffer(array_type, x), n, 1,
+                                 _from_buffer(array_type, out), n, 1, scale,
+                                 _thread.buf if _thread.nbytes >= need else _workspace(need))
+                if status:
+                    _check(status, "an FFT")
+        else:
+            fft(x, out, inverse, scale)
+    return run
 
 
 def info() -> dict:
@@ -157,6 +215,7 @@ def info() -> dict:
         "c_kernel_version": ffi.string(lib.tb_version()).decode(),
         "c_compiler": ffi.string(lib.tbpy_compiler()).decode(),
         "c_flags": ffi.string(lib.tbpy_cflags()).decode(),
+        "c_simd": ffi.string(lib.tb_fft_plan_simd(_new_plan((64, "D")).handle)).decode(),
         "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
         "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
     }

@@ -24,6 +24,13 @@ def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
     np.multiply(y, scale, out=out, casting="same_kind")
 
 
+def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
+    """Return ``run(x, out)`` doing :func:`fft` for one prepared configuration."""
+    def run(x, out):
+        fft(x, out, inverse, scale)
+    return run
+
+
 def info() -> dict:
     """Facts about this backend for :func:`tonebank.backend_info`."""
     return {"numpy_version": np.__version__}

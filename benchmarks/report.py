@@ -1,0 +1,290 @@
+"""Print the tonebank FFT benchmark results as a plain-text table.
+
+Usage::
+
+    python benchmarks/report.py benchmarks/.results.json
+
+Reads the JSON written by ``pytest benchmarks --benchmark-json=...``,
+finds each benchmark through its ``extra_info`` (impl, kind, n, batch,
+dtype; see bench_common.py) and prints, for every (dtype, n, batch), the
+median time per call of each implementation, the C kernel's throughput
+and the ratios C/numpy.fft, C/FFTW and C/scipy.fft, then the planning
+costs and an evaluation of the project's speed targets.  Implementations
+missing from the run (no C kernel, no pyfftw) show as "-" and their
+targets as "n/a"; the report itself never fails for that.
+
+Only ratios within one run mean anything: the machines are shared and
+their load changes between runs.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from collections import defaultdict
+from pathlib import Path
+
+#: Column key -> header, for the execution table (in order).
+EXEC_COLUMNS = (
+    ("c", "C"),
+    ("c_out", "C out="),
+    ("c_bare", "C bare"),
+    ("tb_numpy", "tb numpy"),
+    ("numpy", "numpy"),
+    ("scipy", "scipy"),
+    ("fftw", "FFTW"),
+)
+
+#: The project's speed targets (see DEVELOPERS.md and benchmarks/README.md).
+TARGET_BATCHED_VS_NUMPY = 1.0   # batched C FFT no slower than numpy.fft
+TARGET_BATCHED_VS_FFTW = 1.5    # batched C FFT within 1.5x of FFTW
+TARGET_SINGLE_64_VS_NUMPY = 1 / 3  # one n=64 call at most 1/3 of numpy.fft's time
+
+NOTE = ("Figures are from ONE run on a shared machine: absolute times vary between "
+        "runs;\nonly the ratios within this run are meaningful.")
+
+
+def load(path: Path, stat: str = "median") -> tuple[dict, dict]:
+    """Return ``(results, machine_info)`` from a pytest-benchmark JSON file.
+
+    ``results[kind][(dtype, n, batch)][impl]`` is the chosen statistic
+    (``"median"`` or ``"min"``) of the time per call, in seconds.
+    Benchmarks without the expected ``extra_info`` are ignored.
+    """
+    data = json.loads(path.read_text(encoding="utf-8"))
+    results: dict = defaultdict(lambda: defaultdict(dict))
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        try:
+            kind, impl = info["kind"], info["impl"]
+            key = (str(info["dtype"]), int(info["n"]), int(info["batch"]))
+            seconds = float(bench["stats"][stat])
+        except (KeyError, TypeError, ValueError):
+            continue
+        results[kind][key][impl] = seconds
+    return results, data.get("machine_info") or {}
+
+
+def sort_key(key: tuple) -> tuple:
+    """Order rows by precision (single first), then size, then batch."""
+    dtype, n, batch = key
+    precision = {"complex64": 0, "complex128": 1}.get(dtype, 2)
+    return (precision, dtype, n, batch)
+
+
+def ratio(a: float | None, b: float | None) -> float | None:
+    return None if a is None or b is None or b <= 0 else a / b
+
+
+def fmt_us(seconds: float | None) -> str:
+    if seconds is None:
+        return "-"
+    us = seconds * 1e6
+    return f"{us:.2f}" if us < 10 else f"{us:.1f}" if us < 1000 else f"{us:.0f}"
+
+
+def fmt_ratio(value: float | None) -> str:
+    return "-" if value is None else f"{value:.2f}"
+
+
+def table(rows: list[list[str]], header: list[str]) -> str:
+    widths = [max(len(r[i]) for r in [header, *rows]) for i in range(len(header))]
+    line = lambda r: "  ".join(  # noqa: E731
+        c.ljust(w) if i < 3 else c.rjust(w) for i, (c, w) in enumerate(zip(r, widths)))
+    return "\n".join([line(header), "  ".join("-" * w for w in widths),
+                      *(line(r) for r in rows)])
+
+
+def execution_table(execute: dict) -> str:
+    header = ["dtype", "n", "batch", *(f"{h} us" for _, h in EXEC_COLUMNS),
+              "C Msa/s", "C/numpy", "C/scipy", "C/FFTW", "bare/FFTW"]
+    rows = []
+    for key in sorted(execute, key=sort_key):
+        dtype, n, batch = key
+        times = execute[key]
+        c = times.get("c")
+        rows.append([
+            dtype, str(n), str(batch),
+            *(fmt_us(times.get(impl)) for impl, _ in EXEC_COLUMNS),
+            "-" if c is None else f"{n * batch / c / 1e6:.1f}",
+            fmt_ratio(ratio(c, times.get("numpy"))),
+            fmt_ratio(ratio(c, times.get("scipy"))),
+            fmt_ratio(ratio(c, times.get("fftw"))),
+            fmt_ratio(ratio(times.get("c_bare"), times.get("fftw"))),
+        ])
+    return table(rows, header)
+
+
+def planning_table(results: dict) -> str:
+    plan, first, execute = results.get("plan", {}), results.get("first_call", {}), \
+        results.get("execute", {})
+    keys = sorted(set(plan) | set(first), key=sort_key)
+    if not keys:
+        return "(no planning benchmarks in this run)"
+    header = ["dtype", "n", "batch", "C plan us", "C 1st call us", "C steady us",
+              "FFTW est. plan us", "FFTW meas. plan us"]
+    rows = []
+    for key in keys:
+        rows.append([
+            key[0], str(key[1]), str(key[2]),
+            fmt_us(plan.get(key, {}).get("c")),
+            fmt_us(first.get(key, {}).get("c")),
+            fmt_us(execute.get(key, {}).get("c")),
+            fmt_us(plan.get(key, {}).get("fftw_estimate")),
+            fmt_us(plan.get(key, {}).get("fftw_measure")),
+        ])
+    return table(rows, header)
+
+
+def evaluate(execute: dict, mine: str, versus: str, limit: float,
+             select) -> tuple[str, list[str]]:
+    """Check ``time[mine] / time[versus] <= limit`` on the selected rows.
+
+    Returns a verdict (``PASS``, ``FAIL`` or ``n/a``) with a one-line
+    summary and the list of failing rows.
+    """
+    checked, failures, worst = 0, [], None
+    for key in sorted(execute, key=sort_key):
+        if not select(key):
+            continue
+        r = ratio(execute[key].get(mine), execute[key].get(versus))
+        if r is None:
+            continue
+        checked += 1
+        if worst is None or r > worst[0]:
+            worst = (r, key)
+        if r > limit:
+            failures.append(f"{key[0]} n={key[1]} batch={key[2]}: {r:.2f}")
+    if not checked:
+        return "n/a (implementation missing from this run)", []
+    verdict = "PASS" if not failures else "FAIL"
+    r, (dtype, n, batch) = worst
+    return (f"{verdict}: {checked - len(failures)} of {checked} cases within the limit; "
+            f"worst {r:.2f} ({dtype} n={n} batch={batch})"), failures
+
+
+def targets(execute: dict) -> str:
+    batched = lambda key: key[2] > 1  # noqa: E731
+    single64 = lambda key: key[1] == 64 and key[2] == 1  # noqa: E731
+    checks = [
+        (f"batched C FFT no slower than numpy.fft: tonebank.fft [c] / numpy.fft.fft "
+         f"<= {TARGET_BATCHED_VS_NUMPY:g} (batch > 1)",
+         "c", "numpy", TARGET_BATCHED_VS_NUMPY, batched),
+        (f"batched C FFT within {TARGET_BATCHED_VS_FFTW:g}x of FFTW, bare transform "
+         f"against bare transform: C bare / FFTW <= {TARGET_BATCHED_VS_FFTW:g} (batch > 1)",
+         "c_bare", "fftw", TARGET_BATCHED_VS_FFTW, batched),
+        (f"the same through the public call: tonebank.fft [c] / FFTW "
+         f"<= {TARGET_BATCHED_VS_FFTW:g} (batch > 1; informative)",
+         "c", "fftw", TARGET_BATCHED_VS_FFTW, batched),
+        ("single n=64 call at most 1/3 of numpy.fft's time: tonebank.fft [c] / "
+         "numpy.fft.fft <= 0.33 (batch = 1)",
+         "c", "numpy", TARGET_SINGLE_64_VS_NUMPY, single64),
+    ]
+    lines = []
+    for title, mine, versus, limit, select in checks:
+        verdict, failures = evaluate(execute, mine, versus, limit, select)
+        lines.append(f"- {title}\n    {verdict}")
+        lines.extend(f"      over the limit: {f}" for f in failures)
+    return "\n".join(lines)
+
+
+def overhead(execute: dict) -> str:
+    """Per-call cost of one row (streaming use), split into kernel and wrapper."""
+    rows = []
+    for key in sorted(execute, key=sort_key):
+        if key[2] != 1:
+            continue
+        t = execute[key]
+        c, out, bare = t.get("c"), t.get("c_out"), t.get("c_bare")
+        rows.append([
+            key[0], str(key[1]), str(key[2]), fmt_us(c), fmt_us(out), fmt_us(bare),
+            fmt_us(None if out is None or bare is None else out - bare),
+            fmt_us(None if c is None or out is None else c - out),
+            fmt_us(t.get("numpy")), fmt_us(t.get("fftw")),
+        ])
+    if not rows:
+        return "(no single-row execution benchmarks in this run)"
+    return table(rows, ["dtype", "n", "batch", "C us", "C out= us", "C bare us",
+                        "out=-bare us", "C-out= us", "numpy us", "FFTW us"])
+
+
+def machine_summary(machine: dict) -> str:
+    tb = machine.get("tonebank") or {}
+    cpu = machine.get("cpu") or {}
+    parts = [
+        f"machine: {cpu.get('brand_raw') or machine.get('processor') or machine.get('machine', '?')}"
+        f" ({cpu.get('count', '?')} logical CPUs)",
+        f"python {machine.get('python_version', '?')}, numpy {tb.get('numpy_version', '?')}",
+    ]
+    if tb:
+        if tb.get("c_available"):
+            parts.append(f"tonebank {tb.get('version', '?')}: C kernel "
+                         f"{tb.get('c_kernel_version', '?')}, flags {tb.get('c_flags', '?')}")
+            parts.append(f"compiler: {tb.get('c_compiler', '?')}")
+        else:
+            parts.append(f"tonebank {tb.get('version', '?')}: C kernel UNAVAILABLE "
+                         f"({tb.get('c_unavailable_reason')}); C columns are empty")
+    return "\n".join(parts)
+
+
+def report(path: Path, stat: str = "median") -> str:
+    results, machine = load(path, stat)
+    execute = results.get("execute", {})
+    out = [
+        "tonebank FFT benchmarks",
+        "=======================",
+        NOTE,
+        "",
+        machine_summary(machine),
+        "",
+        f"{stat.capitalize()} time per call in microseconds (one call transforms `batch` rows of n",
+        "points along the last axis).  C = tonebank.fft on the C kernel; C out= = the",
+        "same with a preallocated result; tb numpy = tonebank.fft on its numpy backend;",
+        "numpy = numpy.fft.fft; scipy = scipy.fft.fft(workers=1); FFTW = pyfftw",
+        "FFTW.execute() of a FFTW_MEASURE plan, one thread; C bare = the kernel's",
+        "execute function called through cffi with everything prepared (the two bare",
+        "transforms).  C Msa/s = C throughput in million samples per second.  Ratios",
+        "are C time / other time: below 1 means tonebank is faster.",
+        "",
+        execution_table(execute) if execute else "(no execution benchmarks in this run)",
+        "",
+        "Per-call overhead of one row (streaming use is call-bound): out=-bare = the",
+        "public wrapper's cost (argument checks, pointers, dispatch); C-out= = what",
+        "allocating the result costs beyond checking a given `out` (negative when the",
+        "check costs more).  Differences of two statistics, so only indicative.",
+        "",
+        overhead(execute),
+        "",
+        "Planning (one row of n points): C plan = create + release a kernel plan;",
+        "C 1st call = tonebank.fft on a size whose plan is not cached yet; C steady =",
+        "the same call with the plan cached; FFTW plans start from empty wisdom.",
+        "",
+        planning_table(results),
+        "",
+        "Targets",
+        "-------",
+        targets(execute),
+        "",
+        NOTE.replace("\n", " "),
+    ]
+    return "\n".join(out)
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
+    parser.add_argument("--stat", choices=("median", "min"), default="median",
+                        help="statistic of the rounds to report (default: median; "
+                             "min is less sensitive to other jobs on a busy machine)")
+    args = parser.parse_args(argv)
+    if not args.json.exists():
+        print(f"report.py: {args.json} does not exist; run `make bench` first",
+              file=sys.stderr)
+        return 2
+    print(report(args.json, args.stat))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
