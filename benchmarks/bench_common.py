@@ -17,6 +17,7 @@ DTYPES = ("complex64", "complex128")
 IMPLEMENTATIONS = {
     "c": "tonebank.fft [c]",
     "c_out": "tonebank.fft [c] out=",
+    "c_plan": "tonebank.FftPlan [c] call",
     "c_bare": "C kernel execute (bare cffi call)",
     "tb_numpy": "tonebank.fft [numpy]",
     "numpy": "numpy.fft.fft",

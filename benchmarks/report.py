@@ -29,6 +29,7 @@ from pathlib import Path
 EXEC_COLUMNS = (
     ("c", "C"),
     ("c_out", "C out="),
+    ("c_plan", "C plan"),
     ("c_bare", "C bare"),
     ("tb_numpy", "tb numpy"),
     ("numpy", "numpy"),
@@ -180,6 +181,9 @@ def targets(execute: dict) -> str:
         ("single n=64 call at most 1/3 of numpy.fft's time: tonebank.fft [c] / "
          "numpy.fft.fft <= 0.33 (batch = 1)",
          "c", "numpy", TARGET_SINGLE_64_VS_NUMPY, single64),
+        ("the same through a prepared plan: tonebank.FftPlan [c] call / "
+         "numpy.fft.fft <= 0.33 (batch = 1)",
+         "c_plan", "numpy", TARGET_SINGLE_64_VS_NUMPY, single64),
     ]
     lines = []
     for title, mine, versus, limit, select in checks:
@@ -198,14 +202,15 @@ def overhead(execute: dict) -> str:
         t = execute[key]
         c, out, bare = t.get("c"), t.get("c_out"), t.get("c_bare")
         rows.append([
-            key[0], str(key[1]), str(key[2]), fmt_us(c), fmt_us(out), fmt_us(bare),
+            key[0], str(key[1]), str(key[2]), fmt_us(c), fmt_us(out),
+            fmt_us(t.get("c_plan")), fmt_us(bare),
             fmt_us(None if out is None or bare is None else out - bare),
             fmt_us(None if c is None or out is None else c - out),
             fmt_us(t.get("numpy")), fmt_us(t.get("fftw")),
         ])
     if not rows:
         return "(no single-row execution benchmarks in this run)"
-    return table(rows, ["dtype", "n", "batch", "C us", "C out= us", "C bare us",
+    return table(rows, ["dtype", "n", "batch", "C us", "C out= us", "C plan us", "C bare us",
                         "out=-bare us", "C-out= us", "numpy us", "FFTW us"])
 
 
@@ -240,7 +245,8 @@ def report(path: Path, stat: str = "median") -> str:
         "",
         f"{stat.capitalize()} time per call in microseconds (one call transforms `batch` rows of n",
         "points along the last axis).  C = tonebank.fft on the C kernel; C out= = the",
-        "same with a preallocated result; tb numpy = tonebank.fft on its numpy backend;",
+        "same with a preallocated result; C plan = calling a prepared tonebank.FftPlan;",
+        "tb numpy = tonebank.fft on its numpy backend;",
         "numpy = numpy.fft.fft; scipy = scipy.fft.fft(workers=1); FFTW = pyfftw",
         "FFTW.execute() of a FFTW_MEASURE plan, one thread; C bare = the kernel's",
         "execute function called through cffi with everything prepared (the two bare",

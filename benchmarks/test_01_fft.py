@@ -10,6 +10,8 @@ Implementations (keys in ``conftest.IMPLEMENTATIONS``):
 ``c``         ``tonebank.fft(x)`` on the C backend (allocates the result);
 ``c_out``     ``tonebank.fft(x, out=buffer)`` on the C backend: the same
               call without allocation, so per-call overhead shows;
+``c_plan``    calling a prepared ``tonebank.FftPlan(n, dtype=...)`` on the C
+              backend (allocates the result): the streaming form;
 ``c_bare``    the C kernel's execute function (the header's
               ``tb_fft_execute_f32/f64``) called directly through cffi with
               pointers, plan and workspace prepared once: the bare
@@ -54,6 +56,16 @@ def test_tonebank_c_out(benchmark, c_backend, make_signal, dtype, n, batch):
     tonebank.fft(x, out=out)
     result = benchmark(tonebank.fft, x, out=out)
     assert result is out
+    check_fft(result, x, dtype)
+
+
+@pytest.mark.parametrize(("dtype", "n", "batch"), CASES)
+def test_tonebank_c_plan(benchmark, c_backend, make_signal, dtype, n, batch):
+    x = make_signal(n, batch, dtype)
+    label(benchmark, "c_plan", "execute", n, batch, dtype)
+    plan = tonebank.FftPlan(n, dtype=dtype)  # planned outside the timed calls
+    assert plan.backend == "c"
+    result = benchmark(plan, x)
     check_fft(result, x, dtype)
 
 
