@@ -146,8 +146,8 @@ def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
         if plan is None:
             _numpy.fft(x, out, inverse, scale)
             return
-    if x.flags.c_contiguous and out.flags.c_contiguous:
-        # Fast path: whole rows back to back on both sides.
+    if out.flags.carray and x.flags.c_contiguous and x.flags.aligned:
+        # Fast path: whole, aligned rows back to back on both sides.
         n = key[0]
         batch = x.size // n
         if batch:
@@ -160,14 +160,16 @@ def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
             if status:
                 _check(status, "an FFT")
         return
-    x_rows = _rows(x)
+    # The kernel needs each scalar aligned to its size (numpy's "aligned"
+    # flag); a misaligned view (from a byte buffer) goes through a copy.
+    x_rows = _rows(x) if x.flags.aligned else None
     if x_rows is None:
-        x = np.ascontiguousarray(x)
+        x = np.array(x, order="C")
         x_rows = _rows(x)
     if x_rows[0] == 0:
         return
     target = out
-    out_rows = _rows(out)
+    out_rows = _rows(out) if out.flags.aligned else None
     if out_rows is None:
         target = np.empty(out.shape, out.dtype)
         out_rows = _rows(target)
@@ -195,7 +197,7 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
     direction, need = (_INVERSE if inverse else _FORWARD), plan.work_nbytes
 
     def run(x, out):
-        if x.flags.c_contiguous and out.flags.c_contiguous:
+        if out.flags.carray and x.flags.c_contiguous and x.flags.aligned:
             batch = x.size // n
             if batch:
                 status = execute(handle, direction, batch,
