@@ -37,7 +37,7 @@ def test_backend_info_reports_the_active_backend(backend):
                 "python_version", "machine"):
         assert key in info
     text = str(info)
-    assert f"backend" in text and backend in text
+    assert "backend" in text and backend in text
     if info["c_available"]:
         assert info["c_unavailable_reason"] is None
         assert re.fullmatch(r"\d+\.\d+\.\d+", info["c_kernel_version"])
