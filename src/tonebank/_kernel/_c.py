@@ -135,10 +135,27 @@ _from_buffer = ffi.from_buffer
 _FORWARD, _INVERSE = lib.TB_FORWARD, lib.TB_INVERSE
 
 
+def _execute_contiguous(plan: _Plan, direction: int, x: np.ndarray, out: np.ndarray,
+                        scale: float) -> None:
+    """The common case: whole, aligned rows back to back on both sides.
+
+    Kept short because every single-symbol call goes through it.
+    """
+    n = x.shape[-1]
+    batch = x.size // n
+    if batch:
+        need = plan.work_nbytes
+        status = plan.execute(
+            plan.handle, direction, batch,
+            _from_buffer(plan.array_type, x), n, 1,
+            _from_buffer(plan.array_type, out), n, 1,
+            scale, _thread.buf if _thread.nbytes >= need else _workspace(need))
+        if status:
+            _check(status, "an FFT")
+
+
 def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
     """``out[...] = scale * DFT(x)`` along the last axis (see the interface)."""
-    # This function is on the path of every single-symbol call, so the
-    # common case (known plan, contiguous arrays) is kept short.
     key = (x.shape[-1], x.dtype.char)
     plan = _plans.get(key)
     if plan is None:
@@ -147,18 +164,7 @@ def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
             _numpy.fft(x, out, inverse, scale)
             return
     if out.flags.carray and x.flags.c_contiguous and x.flags.aligned:
-        # Fast path: whole, aligned rows back to back on both sides.
-        n = key[0]
-        batch = x.size // n
-        if batch:
-            status = plan.execute(
-                plan.handle, _INVERSE if inverse else _FORWARD, batch,
-                _from_buffer(plan.array_type, x), n, 1,
-                _from_buffer(plan.array_type, out), n, 1,
-                scale, _thread.buf if _thread.nbytes >= plan.work_nbytes
-                else _workspace(plan.work_nbytes))
-            if status:
-                _check(status, "an FFT")
+        _execute_contiguous(plan, _INVERSE if inverse else _FORWARD, x, out, scale)
         return
     # The kernel needs each scalar aligned to its size (numpy's "aligned"
     # flag); a misaligned view (from a byte buffer) goes through a copy.
@@ -193,19 +199,11 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
         def run_numpy(x, out):
             _numpy.fft(x, out, inverse, scale)
         return run_numpy
-    execute, handle, array_type = plan.execute, plan.handle, plan.array_type
-    direction, need = (_INVERSE if inverse else _FORWARD), plan.work_nbytes
+    direction = _INVERSE if inverse else _FORWARD
 
     def run(x, out):
         if out.flags.carray and x.flags.c_contiguous and x.flags.aligned:
-            batch = x.size // n
-            if batch:
-                status = execute(handle, direction, batch,
-                                 _from_buffer(array_type, x), n, 1,
-                                 _from_buffer(array_type, out), n, 1, scale,
-                                 _thread.buf if _thread.nbytes >= need else _workspace(need))
-                if status:
-                    _check(status, "an FFT")
+            _execute_contiguous(plan, direction, x, out, scale)
         else:
             fft(x, out, inverse, scale)
     return run
