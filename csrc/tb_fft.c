@@ -7,9 +7,9 @@
  *
  * Algorithm: Stockham autosort, decimation in time
  * -------------------------------------------------
- * n is factored into radices (see tb_factor: 5s, 3s, one 2 or 8, 4s):
+ * n is factored into radices (see tb_factor: one 2 or 8, 5s, 3s, 4s):
  *
- *     n = r_0 * r_1 * ... * r_{P-1}          e.g. 1536 = 3 * 8 * 4 * 4 * 4
+ *     n = r_0 * r_1 * ... * r_{P-1}          e.g. 1536 = 8 * 3 * 4 * 4 * 4
  *
  * Pass p combines r = r_p sub-transforms of length l = r_0 * ... * r_{p-1}
  * into transforms of length l * r; m = n / (l * r) such problems are
@@ -117,6 +117,7 @@
 #include <stdlib.h>
 
 #include "tonebank.h"
+#include "tb_internal.h"
 
 #if defined(__GNUC__) || defined(__clang__)
 #define TB_INLINE static inline __attribute__((always_inline))
@@ -131,8 +132,6 @@
 
 /* Alignment of the twiddle table inside the plan block, bytes. */
 #define TB_ALIGN 64
-/* Largest number of passes: every radix is >= 2 and n <= 2^20. */
-#define TB_MAX_PASSES 20
 /* Largest radix. */
 #define TB_MAX_RADIX 8
 /* REALs between the output slots of a pass in the workspace. */
@@ -162,27 +161,6 @@ typedef long double tb_twiddle_real;
 #define TB_TW_COS cosl
 #define TB_TW_SIN sinl
 #endif
-
-typedef struct {
-    int radix;        /* r: 2, 3, 4, 5 or 8 */
-    size_t l;         /* length of the sub-transforms this pass combines */
-    size_t m;         /* n / (l * r): interleaved problems */
-    size_t lp;        /* l of the previous pass (1 for pass 0) */
-    size_t tw_offset; /* first twiddle of this pass, complex index */
-} tb_fft_pass;
-
-struct tb_fft_plan {
-    size_t n;
-    int precision;        /* TB_FLOAT32 or TB_FLOAT64 */
-    int avx2;             /* 1: run the AVX2 copy of the kernels */
-    int npass;            /* 0 when n == 1 */
-    tb_fft_pass pass[TB_MAX_PASSES];
-    size_t half;          /* REALs per part of the workspace */
-    ptrdiff_t pad;        /* REALs between output slots: TB_PAD or 0 */
-    int lanes;            /* 1: batches may run TB_LANES rows at once */
-    size_t ntwiddle;      /* complex entries in the table */
-    const void *twiddles; /* float or double, inside this block */
-};
 
 /*
  * cos and sin of 2 pi k / N for 0 <= k < N, accurate to the working
@@ -282,30 +260,25 @@ int tb_fft_size_supported(size_t n)
 }
 
 /*
- * Radices in pass order: 5s, 3s, then the power of two 2^a as 4s, with
- * the odd factor 2 taken as one 8 in front of them (a odd, a >= 3) or as
- * a single 2 (a == 1).  Reasons, measured with tests/bench_fft.c:
+ * Radices in pass order: the odd factor 2 of the power of two 2^a as one
+ * 8 in front of everything (a odd, a >= 3) or as a single 2 (a == 1),
+ * then the 5s, the 3s, and the rest of 2^a as 4s.  Reasons, measured
+ * with tests/bench_fft.c:
  *  - radix 4 is the sweet spot for split-format SIMD code: its 8 input
  *    and 8 output streams and 3 twiddles fit the 16 vector registers of
  *    x86-64 and AArch64 (radix 8 spills once it has twiddles);
- *  - the first pass has no twiddles, so an 8 costs least there;
+ *  - the first pass has no twiddles, so an 8 costs least there (and the
+ *    pass code relies on it: a radix-8 pass is always pass 0);
  *  - the last pass gathers its inputs with stride r; r = 4 keeps that
  *    cheap.
  */
 static int tb_factor(size_t n, int *radix)
 {
     int np = 0, a = 0, i;
-    while (n % 5 == 0) {
-        radix[np++] = 5;
-        n /= 5;
-    }
-    while (n % 3 == 0) {
-        radix[np++] = 3;
-        n /= 3;
-    }
-    while (n % 2 == 0) {
+    size_t odd = n;
+    while (odd % 2 == 0) {
         a++;
-        n /= 2;
+        odd /= 2;
     }
     if (a == 1) {
         radix[np++] = 2;
@@ -313,6 +286,14 @@ static int tb_factor(size_t n, int *radix)
     } else if (a % 2 == 1) {
         radix[np++] = 8;
         a -= 3;
+    }
+    while (odd % 5 == 0) {
+        radix[np++] = 5;
+        odd /= 5;
+    }
+    while (odd % 3 == 0) {
+        radix[np++] = 3;
+        odd /= 3;
     }
     for (i = 0; i < a / 2; i++)
         radix[np++] = 4;
@@ -520,4 +501,45 @@ int tb_fft_execute_f64(const tb_fft_plan *plan, int direction, size_t batch,
     rows_f64(plan, inv, batch, in, in_row_stride, in_stride, out, out_row_stride,
              out_stride, scale, (double *)work);
     return TB_OK;
+}
+
+/* ---- engines for fused operations (declared in tb_internal.h) ---------- */
+
+#if TB_DISPATCH_AVX2
+#define TB_PICK(plan, name, args) ((plan)->avx2 ? name##_avx2 args : name args)
+#else
+#define TB_PICK(plan, name, args) (name args)
+#endif
+
+void tb_fft_core_row_f32(const tb_fft_plan *p, int inv, const float *xr, const float *xi,
+                         ptrdiff_t xs, float *out, ptrdiff_t os, float scale, float *work)
+{
+    if (p->npass == 0) { /* n == 1 */
+        out[0] = scale * xr[0];
+        out[1] = scale * xi[0];
+        return;
+    }
+    TB_PICK(p, run_passes_f32, (p, inv, xr, xi, xs, out, os, scale, work));
+}
+
+void tb_fft_core_row_f64(const tb_fft_plan *p, int inv, const double *xr,
+                         const double *xi, ptrdiff_t xs, double *out, ptrdiff_t os,
+                         double scale, double *work)
+{
+    if (p->npass == 0) { /* n == 1 */
+        out[0] = scale * xr[0];
+        out[1] = scale * xi[0];
+        return;
+    }
+    TB_PICK(p, run_passes_f64, (p, inv, xr, xi, xs, out, os, scale, work));
+}
+
+float *tb_fft_core_lanes_f32(const tb_fft_plan *p, int inv, float *work)
+{
+    return TB_PICK(p, lane_passes_f32, (p, inv, work));
+}
+
+double *tb_fft_core_lanes_f64(const tb_fft_plan *p, int inv, double *work)
+{
+    return TB_PICK(p, lane_passes_f64, (p, inv, work));
 }

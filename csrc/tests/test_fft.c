@@ -1037,8 +1037,11 @@ int main(void)
     size_t n, kv;
     static const size_t big_bins_sizes[] = {(size_t)TB_FFT_MAX_SIZE, 1000000, 531441,
                                             390625, 786432};
-    static const size_t lay[] = {1, 2, 3, 4, 5, 6, 8, 12, 16, 20, 30, 32, 45, 64, 96, 128,
-                                 250, 256, 360, 512, 1024};
+    /* Every size up to 64 (batches of those run 8 rows at once, see
+     * "Lanes" in tb_fft_impl.h) and larger ones of each radix mix. */
+    static const size_t lay[] = {1,  2,  3,  4,  5,  6,  8,  9,   10,  12,  15,  16,  18,
+                                 20, 24, 25, 27, 30, 32, 36, 40,  45,  48,  50,  54,  60,
+                                 64, 96, 120, 128, 250, 256, 360, 512, 1024};
 
     printf("kernel builds under test:");
     for (kv = 0; kv < N_KERNELS; kv++)
