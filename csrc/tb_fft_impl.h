@@ -354,7 +354,7 @@ TB_INLINE void SFX(col8)(size_t co, ptrdiff_t xso, ptrdiff_t yso, ptrdiff_t tso,
  * output element j0; yo holds the slot offsets in REALs (slot
  * permutation included).
  */
-#define TB_LANES 8
+#define TB_LANES TB_FFT_LANES
 TB_INLINE void SFX(last4)(const REAL *TB_RESTRICT xr, const REAL *TB_RESTRICT xi,
                           REAL *y, const ptrdiff_t *yo, const REAL *TB_RESTRICT wr,
                           const REAL *TB_RESTRICT wi, ptrdiff_t tq, REAL sg, REAL sc)
@@ -566,31 +566,19 @@ TB_DEFINE_LANE_PASS(4)
 TB_DEFINE_LANE_PASS(5)
 TB_DEFINE_LANE_PASS(8)
 
-/* TB_LANES rows: row r at in + 2*r*irs (element stride is), out likewise. */
-static void SFX(lanes)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t irs,
-                       ptrdiff_t is, REAL *out, ptrdiff_t ors, ptrdiff_t os, REAL scale,
-                       REAL *work)
+/*
+ * The passes of plan p on TB_LANES rows already in lane layout in W0
+ * (element e of lane r at work[e*TB_LANES + r], imaginary part half
+ * REALs later).  Returns the part holding the result, in the same
+ * layout: W0 or W1 depending on the number of passes.  Fused operations
+ * (tb_ofdm.c) fill W0 and read the result themselves.
+ */
+static REAL *SFX(lane_passes)(const tb_fft_plan *p, int inv, REAL *work)
 {
     const size_t half = p->half;
-    const ptrdiff_t L = TB_LANES, n = (ptrdiff_t)p->n;
     const REAL *tw = (const REAL *)p->twiddles;
     REAL *xr = work, *xi = work + half;
-    ptrdiff_t r, e;
     int ip;
-    /* rows -> lanes (all input read before any output is written) */
-    for (r = 0; r < L; r++) {
-        const REAL *src = in + 2 * r * irs;
-        if (is == 1)
-            for (e = 0; e < n; e++) {
-                xr[e * L + r] = src[2 * e];
-                xi[e * L + r] = src[2 * e + 1];
-            }
-        else
-            for (e = 0; e < n; e++) {
-                xr[e * L + r] = src[2 * e * is];
-                xi[e * L + r] = src[2 * e * is + 1];
-            }
-    }
     for (ip = 0; ip < p->npass; ip++) {
         const tb_fft_pass *ps = &p->pass[ip];
         REAL *yr = work + 2 * half * (size_t)((ip + 1) % 2), *yi = yr + half;
@@ -615,6 +603,34 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t 
         xr = yr;
         xi = yi;
     }
+    return xr;
+}
+
+/* TB_LANES rows: row r at in + 2*r*irs (element stride is), out likewise. */
+static void SFX(lanes)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t irs,
+                       ptrdiff_t is, REAL *out, ptrdiff_t ors, ptrdiff_t os, REAL scale,
+                       REAL *work)
+{
+    const size_t half = p->half;
+    const ptrdiff_t L = TB_LANES, n = (ptrdiff_t)p->n;
+    REAL *xr = work, *xi = work + half;
+    ptrdiff_t r, e;
+    /* rows -> lanes (all input read before any output is written) */
+    for (r = 0; r < L; r++) {
+        const REAL *src = in + 2 * r * irs;
+        if (is == 1)
+            for (e = 0; e < n; e++) {
+                xr[e * L + r] = src[2 * e];
+                xi[e * L + r] = src[2 * e + 1];
+            }
+        else
+            for (e = 0; e < n; e++) {
+                xr[e * L + r] = src[2 * e * is];
+                xi[e * L + r] = src[2 * e * is + 1];
+            }
+    }
+    xr = SFX(lane_passes)(p, inv, work);
+    xi = xr + half;
     /* lanes -> rows, scaled */
     for (r = 0; r < L; r++) {
         REAL *dst = out + 2 * r * ors;
@@ -630,7 +646,6 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t 
             }
     }
 }
-
 
 /*
  * Run all passes of plan p on one row.

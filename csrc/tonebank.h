@@ -140,6 +140,82 @@ int tb_fft_execute_f64(const tb_fft_plan *plan, int direction, size_t batch,
                        double *out, ptrdiff_t out_row_stride, ptrdiff_t out_stride,
                        double scale, void *work);
 
+/* ---- OFDM symbols: fused scatter / transform / cyclic prefix ------------ */
+
+/* Opaque, immutable plan of the fused OFDM operations: an FFT of size n
+ * plus two tables of bin positions.  Source "a" (typically the data
+ * subcarriers, or every bin of a full grid) has n_a values per symbol
+ * that go to FFT bins bins_a[0 .. n_a); source "b" (typically the
+ * pilots) has n_b values that go to bins_b.  Positions are in natural
+ * FFT order (0 = DC, n/2 .. n-1 the negative frequencies) and must be
+ * distinct across both tables; every other bin is zero when
+ * synthesizing and is not read back when analyzing. */
+typedef struct tb_ofdm_plan tb_ofdm_plan;
+
+/* Create a plan.  bins_b may be NULL when n_b == 0.  Errors: TB_ERR_NULL
+ * (plan_out, or a table with a non-zero count, is NULL), TB_ERR_SIZE (n
+ * unsupported, see tb_fft_size_supported), TB_ERR_PRECISION, TB_ERR_ARG
+ * (a position >= n, a position repeated, or n_a + n_b > n),
+ * TB_ERR_NOMEM. */
+int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_a,
+                        size_t n_b, const size_t *bins_b, tb_ofdm_plan **plan_out);
+
+/* Release a plan; NULL is accepted and ignored. */
+void tb_ofdm_plan_destroy(tb_ofdm_plan *plan);
+
+/* Bytes of caller-owned workspace the execute calls need with this plan
+ * (aligned for double, one per concurrent caller; 0 for a NULL plan). */
+size_t tb_ofdm_workspace_size(const tb_ofdm_plan *plan);
+
+/* Synthesize n_symbols OFDM symbols for each of `batch` signals, in one
+ * pass per symbol:
+ *
+ *     X[bins_a[k]] = a[k], X[bins_b[k]] = b[k], every other bin 0
+ *     body[j]      = scale * sum_k X[k] exp(+2 pi i j k / n)   j < n
+ *     symbol       = body[n - cp[s] .. n) followed by body      (CP first)
+ *
+ * Symbol s of signal q reads a at a + 2 * (q * a_batch_stride +
+ * s * a_symbol_stride) (n_a contiguous complex values) and b likewise;
+ * the symbols of signal q follow each other from out + 2 *
+ * q * out_batch_stride, symbol s starting sum_{u<s} (n + cp[u]) complex
+ * samples in.  cp holds n_symbols prefix lengths, each <= n.  Strides
+ * are in complex elements; the b strides may be 0 (the same pilots for
+ * every signal or symbol).  b may be NULL when the plan has n_b == 0.
+ *
+ * Errors (nothing written): TB_ERR_NULL (plan, cp, a, out, work, or b
+ * with n_b > 0), TB_ERR_PRECISION, TB_ERR_ARG (a cp[s] > n, misaligned
+ * pointers).  The inputs must not overlap the output. */
+int tb_ofdm_synthesize_f32(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                           const size_t *cp, const float *a, ptrdiff_t a_batch_stride,
+                           ptrdiff_t a_symbol_stride, const float *b,
+                           ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                           float *out, ptrdiff_t out_batch_stride, float scale,
+                           void *work);
+int tb_ofdm_synthesize_f64(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                           const size_t *cp, const double *a, ptrdiff_t a_batch_stride,
+                           ptrdiff_t a_symbol_stride, const double *b,
+                           ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                           double *out, ptrdiff_t out_batch_stride, double scale,
+                           void *work);
+
+/* The inverse of synthesis, in one pass per symbol: skip the cp[s]
+ * prefix samples of symbol s, take the forward FFT of the next n
+ * samples (times scale), and write a[k] = X[bins_a[k]], b[k] =
+ * X[bins_b[k]].  Same layouts as tb_ofdm_synthesize_* with the roles
+ * of input and output exchanged; b may be NULL (pilots not wanted) even
+ * when the plan has n_b > 0.  The a and b strides must not be 0.
+ * Errors as for synthesis. */
+int tb_ofdm_analyze_f32(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                        const size_t *cp, const float *in, ptrdiff_t in_batch_stride,
+                        float *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                        float *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                        float scale, void *work);
+int tb_ofdm_analyze_f64(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                        const size_t *cp, const double *in, ptrdiff_t in_batch_stride,
+                        double *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                        double *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                        double scale, void *work);
+
 /* ---- end cffi declarations ---- */
 
 #ifdef __cplusplus

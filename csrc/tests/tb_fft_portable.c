@@ -17,4 +17,8 @@
 #define tb_fft_workspace_size tbport_fft_workspace_size
 #define tb_fft_execute_f32 tbport_fft_execute_f32
 #define tb_fft_execute_f64 tbport_fft_execute_f64
+#define tb_fft_core_row_f32 tbport_fft_core_row_f32
+#define tb_fft_core_row_f64 tbport_fft_core_row_f64
+#define tb_fft_core_lanes_f32 tbport_fft_core_lanes_f32
+#define tb_fft_core_lanes_f64 tbport_fft_core_lanes_f64
 #include "../tb_fft.c"

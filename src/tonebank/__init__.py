@@ -13,16 +13,30 @@ from ._kernel import (
     set_backend,
     use_backend,
 )
+from . import channel, metrics, presets, theory
+from .constellation import Constellation
+from .plan import CarrierPlan
 from .transforms import FftPlan, fft
+from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
 
 __version__ = "0.1.0"
 
 __all__ = [
     "BackendInfo",
     "BackendUnavailableError",
+    "CarrierPlan",
+    "Constellation",
+    "CpOfdm",
     "FftPlan",
+    "StreamAnalyzer",
+    "StreamSynthesizer",
+    "Waveform",
     "__version__",
     "backend_info",
+    "channel",
+    "metrics",
+    "presets",
+    "theory",
     "fft",
     "set_backend",
     "use_backend",

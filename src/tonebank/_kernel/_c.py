@@ -132,6 +132,7 @@ def _pointer(arr: np.ndarray, plan: _Plan):
 
 
 _from_buffer = ffi.from_buffer
+_SIZE_ARRAY = ffi.typeof("size_t[]")
 _FORWARD, _INVERSE = lib.TB_FORWARD, lib.TB_INVERSE
 
 
@@ -207,6 +208,136 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
         else:
             fft(x, out, inverse, scale)
     return run
+
+
+class _OfdmPlan:
+    """A C plan of the fused OFDM operations (see :func:`ofdm_runner`)."""
+
+    __slots__ = ("handle", "work_nbytes", "synth", "analyze", "array_type", "n_a", "n_b")
+
+    def __init__(self, n: int, single: bool, bins_a: np.ndarray, bins_b: np.ndarray):
+        precision = lib.TB_FLOAT32 if single else lib.TB_FLOAT64
+        out = ffi.new("tb_ofdm_plan **")
+        table_a = ffi.new("size_t[]", [int(k) for k in bins_a])
+        table_b = ffi.new("size_t[]", [int(k) for k in bins_b]) if len(bins_b) else ffi.NULL
+        _check(lib.tb_ofdm_plan_create(n, precision, len(bins_a), table_a, len(bins_b),
+                                       table_b, out),
+               f"planning OFDM symbols of size {n}")
+        self.handle = ffi.gc(out[0], lib.tb_ofdm_plan_destroy)
+        self.work_nbytes = lib.tb_ofdm_workspace_size(self.handle)
+        self.synth = lib.tb_ofdm_synthesize_f32 if single else lib.tb_ofdm_synthesize_f64
+        self.analyze = lib.tb_ofdm_analyze_f32 if single else lib.tb_ofdm_analyze_f64
+        self.array_type = ffi.typeof(("float" if single else "double") + "[]")
+        self.n_a = len(bins_a)
+        self.n_b = len(bins_b)
+
+
+class _OfdmRunner:
+    """Fused OFDM synthesis and analysis for one configuration (C kernel).
+
+    See :func:`tonebank._kernel._numpy.ofdm_runner` for the contract; the
+    arrays arrive validated and C-contiguous.
+    """
+
+    def __init__(self, n, dtype, bins_a, bins_b):
+        self._n = n
+        if lib.tb_fft_size_supported(n):
+            self._plan = _OfdmPlan(n, np.dtype(dtype).char == "F", bins_a, bins_b)
+            self._fallback = None
+        else:
+            fallback_sizes.add(n)
+            self._plan = None
+            self._fallback = _numpy.ofdm_runner(n, dtype, bins_a, bins_b)
+
+    def synthesize(self, a, b, cp, out, scale):
+        if self._plan is None:
+            return self._fallback.synthesize(a, b, cp, out, scale)
+        plan = self._plan
+        batch, n_symbols, n_a = a.shape
+        if batch * n_symbols == 0:
+            return
+        if plan.n_b:
+            b_ptr = _from_buffer(plan.array_type, b)
+            b_batch = b.shape[1] * b.shape[2] if b.shape[0] > 1 else 0
+            b_symbol = b.shape[2]
+        else:
+            b_ptr, b_batch, b_symbol = ffi.NULL, 0, 0
+        status = plan.synth(
+            plan.handle, batch, n_symbols, _from_buffer(_SIZE_ARRAY, cp),
+            _from_buffer(plan.array_type, a), n_symbols * n_a, n_a,
+            b_ptr, b_batch, b_symbol,
+            _from_buffer(plan.array_type, out), out.shape[-1], scale,
+            _workspace(plan.work_nbytes))
+        if status:
+            _check(status, "OFDM synthesis")
+
+    def analyze(self, x, cp, a, b, scale):
+        if self._plan is None:
+            return self._fallback.analyze(x, cp, a, b, scale)
+        plan = self._plan
+        batch, n_symbols, n_a = a.shape
+        if batch * n_symbols == 0:
+            return
+        if b is not None and plan.n_b:
+            b_ptr, b_batch, b_symbol = (_from_buffer(plan.array_type, b),
+                                        n_symbols * b.shape[2], b.shape[2])
+        else:
+            b_ptr, b_batch, b_symbol = ffi.NULL, 0, 0
+        status = plan.analyze(
+            plan.handle, batch, n_symbols, _from_buffer(_SIZE_ARRAY, cp),
+            _from_buffer(plan.array_type, x), x.shape[-1],
+            _from_buffer(plan.array_type, a), n_symbols * n_a, n_a,
+            b_ptr, b_batch, b_symbol, scale,
+            _workspace(plan.work_nbytes))
+        if status:
+            _check(status, "OFDM analysis")
+
+
+    def synthesizer(self, n_symbols, cp, b, scale):
+        """``run(a, out)`` for one signal with everything but the data fixed
+        (see :meth:`._numpy._OfdmRunner.synthesizer`)."""
+        if self._plan is None:
+            return self._fallback.synthesizer(n_symbols, cp, b, scale)
+        plan = self._plan
+        handle, call, atype = plan.handle, plan.synth, plan.array_type
+        n_a, need = plan.n_a, plan.work_nbytes
+        cp_ptr = _from_buffer(_SIZE_ARRAY, cp)
+        if plan.n_b:
+            b_ptr, n_b = _from_buffer(atype, b), b.shape[-1]
+        else:
+            b_ptr, n_b = ffi.NULL, 0
+
+        def run(a, out, _keep=(cp, b)):
+            status = call(handle, 1, n_symbols, cp_ptr, _from_buffer(atype, a), 0, n_a,
+                          b_ptr, 0, n_b, _from_buffer(atype, out), 0, scale,
+                          _thread.buf if _thread.nbytes >= need else _workspace(need))
+            if status:
+                _check(status, "OFDM synthesis")
+        return run
+
+    def analyzer(self, n_symbols, cp, scale):
+        """``run(x, a, b)`` for one signal (see :meth:`._numpy._OfdmRunner.analyzer`)."""
+        if self._plan is None:
+            return self._fallback.analyzer(n_symbols, cp, scale)
+        plan = self._plan
+        handle, call, atype = plan.handle, plan.analyze, plan.array_type
+        n_a, n_b, need = plan.n_a, plan.n_b, plan.work_nbytes
+        cp_ptr = _from_buffer(_SIZE_ARRAY, cp)
+        null = ffi.NULL
+
+        def run(x, a, b, _keep=cp):
+            status = call(handle, 1, n_symbols, cp_ptr, _from_buffer(atype, x), 0,
+                          _from_buffer(atype, a), 0, n_a,
+                          null if b is None else _from_buffer(atype, b), 0, n_b, scale,
+                          _thread.buf if _thread.nbytes >= need else _workspace(need))
+            if status:
+                _check(status, "OFDM analysis")
+        return run
+
+
+def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray):
+    """Prepared fused OFDM operations (see :func:`._numpy.ofdm_runner`)."""
+    return _OfdmRunner(n, dtype, bins_a, bins_b)
 
 
 def info() -> dict:

@@ -1,0 +1,184 @@
+/*
+ * tb_ofdm.c -- fused OFDM symbol synthesis and analysis.
+ *
+ * A numpy chain builds OFDM symbols in several passes over memory: zero a
+ * grid, scatter the used bins, inverse FFT, copy the cyclic prefix,
+ * concatenate.  Here each symbol is done in one pass while it is hot in
+ * the cache: its values are scattered straight into the FFT's own split
+ * workspace, the FFT's last pass writes the symbol body into its place
+ * in the output, and the prefix is copied from the body's tail:
+ *
+ *   a (n_a values) --+                            out, one signal:
+ *                    +--> W0 (split, zeroed) --FFT--> | cp | body (n) | cp | body | ...
+ *   b (n_b values) --+    X[bins_a[k]] = a[k]             ^-- copy of the body's
+ *                         X[bins_b[k]] = b[k]                 last cp samples
+ *
+ * Analysis runs the other way: the FFT's first pass reads the body
+ * straight from the caller's samples (the prefix is skipped, not
+ * copied) and the wanted bins are gathered from the result.
+ *
+ * Small n (plan->lanes, n <= 64): symbols go through the FFT eight at a
+ * time in the lane layout of tb_fft_impl.h, which is where small
+ * transforms get their speed; the scatter and gather then address lanes
+ * directly (element e of symbol r at W[e*8 + r]).
+ *
+ * Plan memory: one allocation
+ *     +----------------------+--------------------+--------------------+
+ *     | struct tb_ofdm_plan  | bins_a: n_a size_t | bins_b: n_b size_t |
+ *     +----------------------+--------------------+--------------------+
+ * plus the FFT plan it owns.
+ *
+ * Workspace (tb_ofdm_workspace_size): the FFT's workspace followed by one
+ * interleaved row of n complex values (analysis of one symbol writes its
+ * spectrum there before the gather).
+ */
+#include <stdlib.h>
+#include <string.h>
+
+#include "tonebank.h"
+#include "tb_internal.h"
+
+struct tb_ofdm_plan {
+    tb_fft_plan *fft;
+    size_t n;
+    size_t n_a, n_b;
+    const size_t *bins_a; /* inside this block */
+    const size_t *bins_b; /* inside this block (NULL when n_b == 0) */
+};
+
+/* Where symbol `s` of signal `q` lives; filled in symbol order. */
+typedef struct {
+    size_t q, s;   /* signal and symbol index */
+    size_t offset; /* complex samples from the signal's start to the symbol */
+} tb_ofdm_cursor;
+
+/* Advance the cursor to the next symbol (row-major over signals, symbols). */
+static void tb_ofdm_next(tb_ofdm_cursor *c, size_t n, size_t n_symbols, const size_t *cp)
+{
+    c->offset += n + cp[c->s];
+    if (++c->s == n_symbols) {
+        c->s = 0;
+        c->q++;
+        c->offset = 0;
+    }
+}
+
+static size_t tb_ofdm_real_size(int precision)
+{
+    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
+}
+
+int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_a,
+                        size_t n_b, const size_t *bins_b, tb_ofdm_plan **plan_out)
+{
+    tb_ofdm_plan *p;
+    unsigned char *seen;
+    size_t k;
+    int st;
+
+    if (plan_out == NULL)
+        return TB_ERR_NULL;
+    *plan_out = NULL;
+    if ((n_a > 0 && bins_a == NULL) || (n_b > 0 && bins_b == NULL))
+        return TB_ERR_NULL;
+    if (precision != TB_FLOAT32 && precision != TB_FLOAT64)
+        return TB_ERR_PRECISION;
+    if (!tb_fft_size_supported(n))
+        return TB_ERR_SIZE;
+    if (n_a > n || n_b > n - n_a)
+        return TB_ERR_ARG;
+
+    /* Every position in range and used once. */
+    seen = (unsigned char *)calloc(n, 1);
+    if (seen == NULL)
+        return TB_ERR_NOMEM;
+    st = TB_OK;
+    for (k = 0; k < n_a + n_b && st == TB_OK; k++) {
+        const size_t pos = k < n_a ? bins_a[k] : bins_b[k - n_a];
+        if (pos >= n || seen[pos])
+            st = TB_ERR_ARG;
+        else
+            seen[pos] = 1;
+    }
+    free(seen);
+    if (st != TB_OK)
+        return st;
+
+    p = (tb_ofdm_plan *)malloc(sizeof(tb_ofdm_plan) + (n_a + n_b) * sizeof(size_t));
+    if (p == NULL)
+        return TB_ERR_NOMEM;
+    st = tb_fft_plan_create(n, precision, &p->fft);
+    if (st != TB_OK) {
+        free(p);
+        return st;
+    }
+    {
+        size_t *tab = (size_t *)(p + 1);
+        if (n_a > 0)
+            memcpy(tab, bins_a, n_a * sizeof(size_t));
+        if (n_b > 0)
+            memcpy(tab + n_a, bins_b, n_b * sizeof(size_t));
+        p->bins_a = tab;
+        p->bins_b = n_b > 0 ? tab + n_a : NULL;
+    }
+    p->n = n;
+    p->n_a = n_a;
+    p->n_b = n_b;
+    *plan_out = p;
+    return TB_OK;
+}
+
+void tb_ofdm_plan_destroy(tb_ofdm_plan *plan)
+{
+    if (plan == NULL)
+        return;
+    tb_fft_plan_destroy(plan->fft);
+    free(plan);
+}
+
+size_t tb_ofdm_workspace_size(const tb_ofdm_plan *plan)
+{
+    if (plan == NULL)
+        return 0;
+    return tb_fft_workspace_size(plan->fft) +
+           2 * plan->n * tb_ofdm_real_size(plan->fft->precision);
+}
+
+/* Checks shared by every execute call; TB_OK when it may proceed. */
+static int tb_ofdm_check(const tb_ofdm_plan *plan, int precision, size_t n_symbols,
+                         const size_t *cp, const void *a, const void *b, int need_b,
+                         const void *samples, const void *work)
+{
+    const size_t rs = tb_ofdm_real_size(precision);
+    size_t s;
+    if (plan == NULL || cp == NULL || a == NULL || samples == NULL || work == NULL ||
+        (need_b && b == NULL))
+        return TB_ERR_NULL;
+    if (plan->fft->precision != precision)
+        return TB_ERR_PRECISION;
+    if (((uintptr_t)a % rs) != 0 || ((uintptr_t)samples % rs) != 0 ||
+        (b != NULL && ((uintptr_t)b % rs) != 0) || ((uintptr_t)work % sizeof(double)) != 0)
+        return TB_ERR_ARG;
+    for (s = 0; s < n_symbols; s++)
+        if (cp[s] > plan->n)
+            return TB_ERR_ARG;
+    return TB_OK;
+}
+
+/* ---- the operations, once per precision ---------------------------------- */
+
+#define REAL float
+#define PREC TB_FLOAT32
+#define SFX(name) name##_f32
+#include "tb_ofdm_impl.h"
+#undef REAL
+#undef PREC
+#undef SFX
+
+#define REAL double
+#define PREC TB_FLOAT64
+#define SFX(name) name##_f64
+#include "tb_ofdm_impl.h"
+#undef REAL
+#undef PREC
+#undef SFX

@@ -1,0 +1,180 @@
+/*
+ * tb_ofdm_impl.h -- precision template of the fused OFDM operations
+ * (internal).  tb_ofdm.c includes it once per precision after defining
+ * REAL (float or double), PREC (TB_FLOAT32 or TB_FLOAT64) and SFX(name)
+ * (name##_f32 or name##_f64).  The
+ * layouts are pictured at the top of tb_ofdm.c.
+ */
+
+/* Scatter one symbol's a and b values into split storage (re, im) with
+ * element stride `step` (1 for a single row in W0, TB_FFT_LANES for a
+ * lane); the storage has been zeroed. */
+static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, REAL *re,
+                         REAL *im, size_t step)
+{
+    size_t k;
+    for (k = 0; k < p->n_a; k++) {
+        re[p->bins_a[k] * step] = a[2 * k];
+        im[p->bins_a[k] * step] = a[2 * k + 1];
+    }
+    if (b != NULL)
+        for (k = 0; k < p->n_b; k++) {
+            re[p->bins_b[k] * step] = b[2 * k];
+            im[p->bins_b[k] * step] = b[2 * k + 1];
+        }
+}
+
+/* Gather one symbol's a and b values from split storage, times scale. */
+static void SFX(gather)(const tb_ofdm_plan *p, const REAL *re, const REAL *im,
+                        size_t step, REAL scale, REAL *a, REAL *b)
+{
+    size_t k;
+    for (k = 0; k < p->n_a; k++) {
+        a[2 * k] = scale * re[p->bins_a[k] * step];
+        a[2 * k + 1] = scale * im[p->bins_a[k] * step];
+    }
+    if (b != NULL)
+        for (k = 0; k < p->n_b; k++) {
+            b[2 * k] = scale * re[p->bins_b[k] * step];
+            b[2 * k + 1] = scale * im[p->bins_b[k] * step];
+        }
+}
+
+int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                            const size_t *cp, const REAL *a, ptrdiff_t a_batch_stride,
+                            ptrdiff_t a_symbol_stride, const REAL *b,
+                            ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride, REAL *out,
+                            ptrdiff_t out_batch_stride, REAL scale, void *work)
+{
+    const tb_fft_plan *f;
+    const size_t n = plan ? plan->n : 0, total = batch * n_symbols;
+    const size_t L = TB_FFT_LANES;
+    REAL *w = (REAL *)work;
+    tb_ofdm_cursor c = {0, 0, 0};
+    size_t done = 0;
+    int st = tb_ofdm_check(plan, PREC, n_symbols,
+                           cp, a, b, plan && plan->n_b > 0, out, work);
+    if (st != TB_OK)
+        return st;
+    f = plan->fft;
+    if (plan->n_b == 0)
+        b = NULL;
+
+    while (done < total) {
+        if (f->lanes && total - done >= L) {
+            /* Eight symbols through the lane engine. */
+            tb_ofdm_cursor at[TB_FFT_LANES];
+            REAL *re, *im;
+            size_t r, e;
+            memset(w, 0, n * L * sizeof(REAL));
+            memset(w + f->half, 0, n * L * sizeof(REAL));
+            for (r = 0; r < L; r++) {
+                const ptrdiff_t q = (ptrdiff_t)c.q, s = (ptrdiff_t)c.s;
+                at[r] = c;
+                SFX(scatter)(plan, a + 2 * (q * a_batch_stride + s * a_symbol_stride),
+                             b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL,
+                             w + r, w + f->half + r, L);
+                tb_ofdm_next(&c, n, n_symbols, cp);
+            }
+            re = SFX(tb_fft_core_lanes)(f, 1, w);
+            im = re + f->half;
+            for (r = 0; r < L; r++) {
+                const size_t ncp = cp[at[r].s];
+                REAL *sym = out + 2 * ((ptrdiff_t)at[r].q * out_batch_stride +
+                                       (ptrdiff_t)at[r].offset);
+                REAL *body = sym + 2 * ncp;
+                for (e = 0; e < n; e++) {
+                    body[2 * e] = scale * re[e * L + r];
+                    body[2 * e + 1] = scale * im[e * L + r];
+                }
+                if (ncp > 0)
+                    memcpy(sym, body + 2 * (n - ncp), 2 * ncp * sizeof(REAL));
+            }
+            done += L;
+        } else {
+            /* One symbol: scatter into W0, the FFT's last pass writes the
+             * body in place, then the prefix is copied from its tail. */
+            const ptrdiff_t q = (ptrdiff_t)c.q, s = (ptrdiff_t)c.s;
+            const size_t ncp = cp[c.s];
+            REAL *sym = out + 2 * (q * out_batch_stride + (ptrdiff_t)c.offset);
+            REAL *body = sym + 2 * ncp;
+            memset(w, 0, n * sizeof(REAL));
+            memset(w + f->half, 0, n * sizeof(REAL));
+            SFX(scatter)(plan, a + 2 * (q * a_batch_stride + s * a_symbol_stride),
+                         b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL, w,
+                         w + f->half, 1);
+            SFX(tb_fft_core_row)(f, 1, w, w + f->half, 1, body, 1, scale, w);
+            if (ncp > 0)
+                memcpy(sym, body + 2 * (n - ncp), 2 * ncp * sizeof(REAL));
+            tb_ofdm_next(&c, n, n_symbols, cp);
+            done++;
+        }
+    }
+    return TB_OK;
+}
+
+int SFX(tb_ofdm_analyze)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
+                         const size_t *cp, const REAL *in, ptrdiff_t in_batch_stride,
+                         REAL *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                         REAL *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                         REAL scale, void *work)
+{
+    const tb_fft_plan *f;
+    const size_t n = plan ? plan->n : 0, total = batch * n_symbols;
+    const size_t L = TB_FFT_LANES;
+    REAL *w = (REAL *)work, *row;
+    tb_ofdm_cursor c = {0, 0, 0};
+    size_t done = 0;
+    int st = tb_ofdm_check(plan, PREC, n_symbols,
+                           cp, a, b, 0, in, work);
+    if (st != TB_OK)
+        return st;
+    /* Two symbols must never write the same output. */
+    if ((batch > 1 && a_batch_stride == 0) || (n_symbols > 1 && a_symbol_stride == 0) ||
+        (b != NULL && ((batch > 1 && b_batch_stride == 0) ||
+                       (n_symbols > 1 && b_symbol_stride == 0))))
+        return TB_ERR_ARG;
+    f = plan->fft;
+    if (plan->n_b == 0)
+        b = NULL;
+    row = w + 4 * f->half; /* the row after the FFT workspace */
+
+    while (done < total) {
+        if (f->lanes && total - done >= L) {
+            tb_ofdm_cursor at[TB_FFT_LANES];
+            REAL *re, *im;
+            size_t r, e;
+            for (r = 0; r < L; r++) {
+                const REAL *body = in + 2 * ((ptrdiff_t)c.q * in_batch_stride +
+                                             (ptrdiff_t)(c.offset + cp[c.s]));
+                at[r] = c;
+                for (e = 0; e < n; e++) {
+                    w[e * L + r] = body[2 * e];
+                    w[f->half + e * L + r] = body[2 * e + 1];
+                }
+                tb_ofdm_next(&c, n, n_symbols, cp);
+            }
+            re = SFX(tb_fft_core_lanes)(f, 0, w);
+            im = re + f->half;
+            for (r = 0; r < L; r++) {
+                const ptrdiff_t q = (ptrdiff_t)at[r].q, s = (ptrdiff_t)at[r].s;
+                SFX(gather)(plan, re + r, im + r, L, scale,
+                            a + 2 * (q * a_batch_stride + s * a_symbol_stride),
+                            b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL);
+            }
+            done += L;
+        } else {
+            /* One symbol: the FFT reads the body where it lies (the prefix is
+             * skipped), writes the spectrum to `row`, the bins are gathered. */
+            const ptrdiff_t q = (ptrdiff_t)c.q, s = (ptrdiff_t)c.s;
+            const REAL *body = in + 2 * (q * in_batch_stride + (ptrdiff_t)(c.offset + cp[c.s]));
+            SFX(tb_fft_core_row)(f, 0, body, body + 1, 2, row, 1, (REAL)1, w);
+            SFX(gather)(plan, row, row + 1, 2, scale,
+                        a + 2 * (q * a_batch_stride + s * a_symbol_stride),
+                        b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL);
+            tb_ofdm_next(&c, n, n_symbols, cp);
+            done++;
+        }
+    }
+    return TB_OK;
+}

@@ -1,0 +1,24 @@
+"""Channel models: what happens to a signal between transmitter and receiver.
+
+Every model takes a signal with samples on the last axis (leading axes are
+batch) and an ``rng`` where it is random; see :mod:`tonebank.channel.noise`
+for additive white Gaussian noise and its SNR conventions.
+"""
+
+from .noise import (
+    awgn,
+    ebn0_to_snr_db,
+    esn0_to_bin_snr_db,
+    esn0_to_snr_db,
+    snr_to_esn0_db,
+    snr_to_noise_var,
+)
+
+__all__ = [
+    "awgn",
+    "ebn0_to_snr_db",
+    "esn0_to_bin_snr_db",
+    "esn0_to_snr_db",
+    "snr_to_esn0_db",
+    "snr_to_noise_var",
+]

@@ -1,0 +1,12 @@
+"""Waveforms of the OFDM family, one module per family, one shared protocol.
+
+Every waveform is a prepared, immutable object built on a
+:class:`~tonebank.CarrierPlan` with the methods of :class:`Waveform`:
+``synthesize(grid) -> samples`` and ``analyze(samples) -> grid``, and the
+streaming forms that process arbitrary chunks.
+"""
+
+from .base import StreamAnalyzer, StreamSynthesizer, Waveform
+from .cp_ofdm import CpOfdm
+
+__all__ = ["CpOfdm", "StreamAnalyzer", "StreamSynthesizer", "Waveform"]

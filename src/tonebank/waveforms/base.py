@@ -1,0 +1,195 @@
+"""The protocol every waveform of the library follows.
+
+A waveform turns a frequency grid ``(..., n_symbols, n_fft)`` (bins in
+natural FFT order, see :mod:`tonebank.plan`) into time-domain samples
+``(..., n_samples)`` and back.  Leading dimensions are batch; complex64
+stays complex64, everything else runs in complex128.
+
+Streaming: :meth:`Waveform.stream_synthesizer` and
+:meth:`Waveform.stream_analyzer` return objects that accept the same
+signal in arbitrary chunks and give exactly the one-shot result, carrying
+whatever state a symbol boundary needs between calls (the symbol count
+for prefix patterns and pilots; the overlap of windowed waveforms).
+"""
+
+from __future__ import annotations
+
+import abc
+
+import numpy as np
+
+__all__ = ["StreamAnalyzer", "StreamSynthesizer", "Waveform"]
+
+
+class Waveform(abc.ABC):
+    """Interface of the library's multicarrier waveforms.
+
+    Attributes a waveform provides: :attr:`plan`, :attr:`latency` and
+    :attr:`tail` (in samples), :meth:`n_samples` (samples taken by a
+    number of symbols).
+    """
+
+    @property
+    @abc.abstractmethod
+    def plan(self):
+        """The :class:`~tonebank.CarrierPlan` the waveform carries."""
+
+    @property
+    def latency(self) -> int:
+        """Samples between a symbol's first input and its first output sample (0 here)."""
+        return 0
+
+    @property
+    def tail(self) -> int:
+        """Samples a burst rings on after its last symbol's nominal end (0 here)."""
+        return 0
+
+    @abc.abstractmethod
+    def n_samples(self, n_symbols: int, start_symbol: int = 0) -> int:
+        """Samples that ``n_symbols`` symbols take, from symbol ``start_symbol`` on."""
+
+    @abc.abstractmethod
+    def synthesize(self, grid, *, start_symbol: int = 0) -> np.ndarray:
+        """Frequency grid ``(..., n_symbols, n_fft)`` to samples ``(..., n_samples)``."""
+
+    @abc.abstractmethod
+    def analyze(self, samples, *, start_symbol: int = 0) -> np.ndarray:
+        """Samples ``(..., n_samples)`` to the frequency grid ``(..., n_symbols, n_fft)``."""
+
+    def stream_synthesizer(self, *, start_symbol: int = 0) -> StreamSynthesizer:
+        """A streaming synthesizer (see :class:`StreamSynthesizer`)."""
+        return StreamSynthesizer(self, start_symbol=start_symbol)
+
+    def stream_analyzer(self, *, start_symbol: int = 0) -> StreamAnalyzer:
+        """A streaming analyzer (see :class:`StreamAnalyzer`)."""
+        return StreamAnalyzer(self, start_symbol=start_symbol)
+
+
+class StreamSynthesizer:
+    """Synthesize a long signal from grid chunks of any number of symbols.
+
+    Feeding the symbols of a grid in chunks returns, concatenated, exactly
+    what ``waveform.synthesize(grid)`` returns in one call: the symbol
+    count (for prefix patterns and pilot sequences) carries over between
+    calls.  For waveforms whose symbols do not overlap (CP-OFDM) each
+    chunk's samples are final at once.
+
+    Parameters
+    ----------
+    waveform : Waveform
+    start_symbol : int, default 0
+        Index of the first symbol fed.
+
+    Examples
+    --------
+    >>> import numpy as np, tonebank
+    >>> ofdm = tonebank.CpOfdm(tonebank.CarrierPlan.centered(16, 12, cp_length=[5, 4]))
+    >>> grid = np.ones((5, 16), complex)
+    >>> stream = ofdm.stream_synthesizer()
+    >>> parts = [stream.feed(grid[:2]), stream.feed(grid[2:])]
+    >>> np.allclose(np.concatenate(parts, axis=-1), ofdm.synthesize(grid))
+    True
+    """
+
+    def __init__(self, waveform: Waveform, *, start_symbol: int = 0):
+        self._waveform = waveform
+        self._next = int(start_symbol)
+
+    @property
+    def next_symbol(self) -> int:
+        """Index of the next symbol to be fed."""
+        return self._next
+
+    def feed(self, grid) -> np.ndarray:
+        """Synthesize the next symbols; returns their samples ``(..., n)``."""
+        grid = np.asarray(grid)
+        out = self._waveform.synthesize(grid, start_symbol=self._next)
+        self._next += grid.shape[-2]
+        return out
+
+    def flush(self) -> np.ndarray:
+        """End the stream; returns the samples still held back (none for CP-OFDM)."""
+        return np.zeros(0)
+
+
+class StreamAnalyzer:
+    """Analyze a long signal arriving in sample chunks of any length.
+
+    Each :meth:`feed` returns the grid of the symbols completed so far
+    (possibly none) and keeps the samples of an incomplete symbol for the
+    next call, so the concatenated results equal one call of
+    ``waveform.analyze`` on the whole signal.  Every chunk must have the
+    same leading (batch) shape.
+
+    Parameters
+    ----------
+    waveform : Waveform
+    start_symbol : int, default 0
+        Index of the first symbol in the stream.
+
+    Examples
+    --------
+    >>> import numpy as np, tonebank
+    >>> ofdm = tonebank.CpOfdm(tonebank.CarrierPlan.centered(16, 12, cp_length=4))
+    >>> x = ofdm.synthesize(np.ones((3, 16), complex))
+    >>> stream = ofdm.stream_analyzer()
+    >>> [stream.feed(x[:30]).shape, stream.feed(x[30:]).shape]
+    [(1, 16), (2, 16)]
+    >>> stream.pending
+    0
+    """
+
+    def __init__(self, waveform: Waveform, *, start_symbol: int = 0):
+        self._waveform = waveform
+        self._next = int(start_symbol)
+        self._held = None
+
+    @property
+    def next_symbol(self) -> int:
+        """Index of the next symbol to be completed."""
+        return self._next
+
+    @property
+    def pending(self) -> int:
+        """Samples held back: the start of a symbol not yet complete."""
+        return 0 if self._held is None else self._held.shape[-1]
+
+    def feed(self, samples) -> np.ndarray:
+        """Add samples ``(..., m)``; returns the grid of the symbols now complete."""
+        samples = np.asarray(samples)
+        if samples.ndim == 0:
+            raise ValueError("samples must have at least one axis (time)")
+        if self._held is not None:
+            if self._held.shape[:-1] != samples.shape[:-1]:
+                raise ValueError(
+                    f"samples has leading shape {samples.shape[:-1]}, but the stream "
+                    f"started with {self._held.shape[:-1]}; every chunk must have the same "
+                    "batch shape")
+            samples = np.concatenate((self._held, samples), axis=-1)
+        wf = self._waveform
+        # Whole symbols in what we have (prefix patterns make lengths vary).
+        count, used = 0, 0
+        while True:
+            step = wf.n_samples(1, self._next + count)
+            if used + step > samples.shape[-1]:
+                break
+            used += step
+            count += 1
+        grid = wf.analyze(samples[..., :used], start_symbol=self._next)
+        self._held = samples[..., used:].copy()
+        self._next += count
+        return grid
+
+    def flush(self) -> None:
+        """End the stream.
+
+        Raises
+        ------
+        ValueError
+            When samples of an incomplete symbol are still held (see
+            :attr:`pending`): nothing is dropped silently.
+        """
+        if self.pending:
+            raise ValueError(
+                f"the stream ends inside a symbol: {self.pending} samples are held and "
+                f"symbol {self._next} needs {self._waveform.n_samples(1, self._next)}")
