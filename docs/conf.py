@@ -96,7 +96,7 @@ napoleon_type_aliases = {
 
 nitpick_ignore_regex = [
     (r"py:.*", r"(numpy|np|scipy|cffi|collections|contextlib|contextvars|decimal"
-               r"|threading|typing|os|pathlib|warnings|argparse)(\..+)?"),
+               r"|threading|typing|os|pathlib|warnings|argparse|abc)(\..+)?"),
 ]
 
 # -- Doctests ----------------------------------------------------------------

@@ -85,17 +85,17 @@ class CarrierPlan:
     ----------
     n_fft : int
         FFT size (number of subcarrier positions), >= 1.
-    data : sequence of int
+    data : array_like of int
         Signed subcarrier indices that carry data (see the module notes for
         the numbering); order does not matter, duplicates are an error.
-    pilots : sequence of int, optional
+    pilots : array_like of int, optional
         Signed subcarrier indices that carry pilots.  Must not overlap
         ``data``.
     pilot_values : array_like of complex, optional
         The pilot values: shape ``(n_pilots,)`` (the same every symbol) or
         ``(period, n_pilots)`` (symbol ``s`` uses row ``s % period``), in
         ascending subcarrier order.  Default: all ones.
-    cp_length : int or sequence of int, default 0
+    cp_length : int or array_like of int, default 0
         Cyclic prefix length in samples: one value for every symbol, or a
         repeating pattern (symbol ``s`` uses ``cp_length[s % len]``), e.g.
         a longer first symbol every half subframe.  Each ``0 <= cp <=
@@ -112,10 +112,11 @@ class CarrierPlan:
         Sizes; ``n_used = n_data + n_pilots``.
     data_subcarriers, pilot_subcarriers : ndarray of int64
         Signed indices, ascending (read-only).
-    data_bins, pilot_bins, null_bins : ndarray of intp
+    data_bins, pilot_bins, null_bins : ndarray of int
         Grid positions (natural FFT order) of the data, pilot and null
         subcarriers, data and pilots in ascending subcarrier order.
-    pilot_values : ndarray of complex128, shape (period, n_pilots)
+    pilot_values : ndarray of complex
+        Shape ``(period, n_pilots)``.
     cp_lengths : tuple of int
         The prefix pattern.
     mean_cp_length : float
@@ -245,8 +246,8 @@ class CarrierPlan:
         pilot_offset : int, default 0
             Active position of the first pilot, ``0 <= pilot_offset <
             pilot_spacing``.
-        dc_null : bool, default True
-            Leave the DC subcarrier empty.
+        dc_null : bool, optional
+            Leave the DC subcarrier empty when true (the default).
         pilot_values, cp_length, sample_rate, name
             As for :class:`CarrierPlan`.
 
@@ -378,12 +379,12 @@ class CarrierPlan:
 
     @property
     def pilot_values(self) -> np.ndarray:
-        """Pilot values, shape ``(period, n_pilots)``; symbol ``s`` uses row ``s % period``."""
+        """The pilot values, shape ``(period, n_pilots)``; symbol ``s`` uses row ``s % period``."""
         return self._pilot_values
 
     @property
     def cp_lengths(self) -> tuple[int, ...]:
-        """Cyclic prefix pattern in samples; symbol ``s`` uses entry ``s % len``."""
+        """The cyclic prefix pattern in samples; symbol ``s`` uses entry ``s % len``."""
         return self._cp
 
     @property
@@ -410,23 +411,23 @@ class CarrierPlan:
 
     @property
     def subcarrier_spacing(self) -> float:
-        """Subcarrier spacing in Hz: ``sample_rate / n_fft``."""
+        """The subcarrier spacing in Hz, ``sample_rate / n_fft``."""
         return self._rate("subcarrier_spacing") / self._n_fft
 
     @property
     def fft_duration(self) -> float:
-        """Duration of the FFT window (the useful symbol part) in s: ``n_fft / sample_rate``."""
+        """The duration in s of the FFT window, the useful part of a symbol (``n_fft / sample_rate``)."""
         return self._n_fft / self._rate("fft_duration")
 
     @property
     def symbol_durations(self) -> tuple[float, ...]:
-        """Duration of each symbol of the prefix pattern, in s: ``(n_fft + cp) / sample_rate``."""
+        """The duration in s of each symbol of the prefix pattern, ``(n_fft + cp) / sample_rate``."""
         rate = self._rate("symbol_durations")
         return tuple((self._n_fft + cp) / rate for cp in self._cp)
 
     @property
     def occupied_bandwidth(self) -> float:
-        """Span of the used subcarriers in Hz, each counted one spacing wide.
+        """The span of the used subcarriers in Hz, each counted one spacing wide.
 
         ``(k_max - k_min + 1) * subcarrier_spacing`` over the data and
         pilot subcarriers: the nominal occupied band, an engineering
@@ -449,7 +450,8 @@ class CarrierPlan:
 
         Returns
         -------
-        ndarray of intp, shape (n_symbols,)
+        ndarray of int
+            Shape ``(n_symbols,)``.
         """
         n_symbols = _int_arg(n_symbols, "n_symbols", minimum=0)
         start_symbol = _int_arg(start_symbol, "start_symbol", minimum=0)
@@ -490,7 +492,8 @@ class CarrierPlan:
 
         Parameters
         ----------
-        data : array_like of complex, shape (..., n_symbols * n_data)
+        data : array_like of complex
+            Shape ``(..., n_symbols * n_data)``.
             Data values, time-major along the last axis (see the module
             notes for the order).  Leading dimensions are batch.
         pilots : array_like of complex, optional
@@ -501,7 +504,8 @@ class CarrierPlan:
 
         Returns
         -------
-        ndarray, shape (..., n_symbols, n_fft)
+        ndarray
+            Shape ``(..., n_symbols, n_fft)``.
             complex64 when ``data`` is complex64 (or float32), complex128
             otherwise; null subcarriers are zero.
 
@@ -556,12 +560,15 @@ class CarrierPlan:
 
         Parameters
         ----------
-        grid : array_like of complex, shape (..., n_symbols, n_fft)
+        grid : array_like of complex
+            Shape ``(..., n_symbols, n_fft)``.
 
         Returns
         -------
-        data : ndarray, shape (..., n_symbols * n_data)
-        pilots : ndarray, shape (..., n_symbols, n_pilots)
+        data : ndarray
+            Shape ``(..., n_symbols * n_data)``.
+        pilots : ndarray
+            Shape ``(..., n_symbols, n_pilots)``.
 
         Raises
         ------

@@ -12,7 +12,7 @@ counts stated elsewhere in the same standard, period identities).
 
 * IEEE Std 802.11a-1999 clause 17 (the 20 MHz OFDM PHY, also used by
   802.11g): :func:`ieee80211a`, the pilot polarity sequence
-  :data:`IEEE80211A_PILOT_POLARITY`, the training fields
+  ``IEEE80211A_PILOT_POLARITY``, the training fields
   :func:`ieee80211a_short_training`, :func:`ieee80211a_long_training` and
   the time-domain preamble :func:`ieee80211a_preamble`.
 * 3GPP TS 38.211 (NR) clauses 4.2, 4.3.2 and 5.3.1: :func:`nr` and the
@@ -21,7 +21,7 @@ counts stated elsewhere in the same standard, period identities).
 * ETSI EN 300 744 (DVB-T) clauses 4.4 to 4.6: :func:`dvbt`,
   :func:`dvbt_parameters`, the reference sequence
   :func:`dvbt_reference_prbs` and the carrier tables
-  :data:`DVBT_CONTINUAL_PILOTS_2K` and friends.
+  ``DVBT_CONTINUAL_PILOTS_2K`` and friends.
 
 .. rubric:: Subcarrier numbering
 
@@ -188,7 +188,7 @@ def ieee80211a(*, polarity_start: int = 1, name: str | None = None) -> CarrierPl
     subcarriers -21, -7, 7, 21, base values ``(1, 1, 1, -1)`` multiplied by
     ``p_n``; the SIGNAL symbol takes ``p_0``).  Values from memory,
     checked by the tests as described at
-    :data:`IEEE80211A_PILOT_POLARITY`.
+    ``IEEE80211A_PILOT_POLARITY``.
 
     The standard's subcarrier numbers are already centred, so the plan's
     ``k`` is the standard's subcarrier number.  The pilot pattern has

@@ -648,7 +648,7 @@ def ebn0_to_esn0_db(ebn0_db, bits_per_symbol, *, code_rate=1.0):
 
 
 def esn0_to_ebn0_db(esn0_db, bits_per_symbol, *, code_rate=1.0):
-    """Convert ``Es/N0`` to ``Eb/N0`` (both in dB); inverse of :func:`ebn0_to_esn0_db`.
+    """Convert ``Es/N0`` to ``Eb/N0`` (both in dB); inverse of :func:`~tonebank.theory.ebn0_to_esn0_db`.
 
     Parameters
     ----------

@@ -36,12 +36,12 @@ class Waveform(abc.ABC):
 
     @property
     def latency(self) -> int:
-        """Samples between a symbol's first input and its first output sample (0 here)."""
+        """The delay in samples between a symbol's first input and its first output sample."""
         return 0
 
     @property
     def tail(self) -> int:
-        """Samples a burst rings on after its last symbol's nominal end (0 here)."""
+        """The number of samples a burst rings on after its last symbol's nominal end."""
         return 0
 
     @abc.abstractmethod
@@ -151,7 +151,7 @@ class StreamAnalyzer:
 
     @property
     def pending(self) -> int:
-        """Samples held back: the start of a symbol not yet complete."""
+        """The number of samples held back (the start of a symbol not yet complete)."""
         return 0 if self._held is None else self._held.shape[-1]
 
     def feed(self, samples) -> np.ndarray:

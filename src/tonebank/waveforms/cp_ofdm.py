@@ -49,11 +49,12 @@ class CpOfdm(Waveform):
         samples), so the signal is sampled L times faster with the same
         spectrum.  ``L * n_fft`` should be a product of 2, 3 and 5 for the
         C kernel (other sizes run on numpy).
-    real : bool, default False
-        Real-valued baseband (DMT, as in wireline and optical links): the
-        signal is the Hermitian extension of the grid, ``x = 2 Re(IDFT)``,
-        so only positive-frequency subcarriers may be used (the plan must
-        place nothing on DC, on the Nyquist bin or below zero).
+    real : bool, optional
+        When true (default false), a real-valued baseband (DMT, as in
+        wireline and optical links): the signal is the Hermitian extension
+        of the grid, ``x = 2 Re(IDFT)``, so only positive-frequency
+        subcarriers may be used (the plan must place nothing on DC, on the
+        Nyquist bin or below zero).
 
     Notes
     -----
@@ -151,12 +152,12 @@ class CpOfdm(Waveform):
 
     @property
     def real(self) -> bool:
-        """True for the real-valued (DMT) baseband."""
+        """Whether the baseband is real-valued (DMT)."""
         return self._real
 
     @property
     def fft_size(self) -> int:
-        """Points of the transform: ``oversampling * plan.n_fft``."""
+        """The number of points of each transform, ``oversampling * plan.n_fft``."""
         return self._os * self._plan.n_fft
 
     @property
@@ -303,7 +304,8 @@ class CpOfdm(Waveform):
 
         Parameters
         ----------
-        grid : array_like of complex, shape (..., n_symbols, n_fft)
+        grid : array_like of complex
+            Shape ``(..., n_symbols, n_fft)``.
             Bins in natural FFT order (see :mod:`tonebank.plan`); every bin
             is transmitted as given (:meth:`CarrierPlan.place` leaves the
             null subcarriers at zero).
@@ -312,7 +314,8 @@ class CpOfdm(Waveform):
 
         Returns
         -------
-        ndarray, shape (..., n_samples)
+        ndarray
+            Shape ``(..., n_samples)``.
             complex64 for complex64 (or float32) input, complex128
             otherwise; float64/float32 in real mode.
 
@@ -350,14 +353,16 @@ class CpOfdm(Waveform):
 
         Parameters
         ----------
-        samples : array_like, shape (..., n_samples)
+        samples : array_like
+            Shape ``(..., n_samples)``.
             Whole symbols with their prefixes, the first one being symbol
             ``start_symbol`` of the prefix pattern.  Real in real mode.
         start_symbol : int, default 0
 
         Returns
         -------
-        ndarray, shape (..., n_symbols, n_fft)
+        ndarray
+            Shape ``(..., n_symbols, n_fft)``.
             complex64 for complex64/float32 input, complex128 otherwise.
 
         Raises
@@ -392,7 +397,8 @@ class CpOfdm(Waveform):
 
         Parameters
         ----------
-        data : array_like of complex, shape (..., n_symbols * n_data)
+        data : array_like of complex
+            Shape ``(..., n_symbols * n_data)``.
             Data values in the plan's order (see :mod:`tonebank.plan`).
         pilots : array_like of complex, optional
             Broadcastable to ``(..., n_symbols, n_pilots)``; default: the
@@ -401,7 +407,8 @@ class CpOfdm(Waveform):
 
         Returns
         -------
-        ndarray, shape (..., n_samples)
+        ndarray
+            Shape ``(..., n_samples)``.
 
         Raises
         ------
@@ -463,14 +470,17 @@ class CpOfdm(Waveform):
 
         Parameters
         ----------
-        samples : array_like, shape (..., n_samples)
+        samples : array_like
+            Shape ``(..., n_samples)``.
             Whole symbols, as for :meth:`analyze`.
         start_symbol : int, default 0
 
         Returns
         -------
-        data : ndarray, shape (..., n_symbols * n_data)
-        pilots : ndarray, shape (..., n_symbols, n_pilots)
+        data : ndarray
+            Shape ``(..., n_symbols * n_data)``.
+        pilots : ndarray
+            Shape ``(..., n_symbols, n_pilots)``.
         """
         if (type(samples) is np.ndarray and samples.ndim == 1 and not self._real
                 and type(start_symbol) is int and start_symbol >= 0
