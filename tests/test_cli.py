@@ -3,6 +3,7 @@
 import subprocess
 import sys
 
+import numpy as np
 import pytest
 
 from tonebank import cli
@@ -37,3 +38,13 @@ def test_module_entry_point_runs():
                        text=True, timeout=120)
     assert r.returncode == 0, r.stderr
     assert "backend" in r.stdout
+
+
+def test_link_demo_agrees_with_theory():
+    # Gray 16-QAM in AWGN: the closed form (Cho & Yoon 2002, via
+    # tonebank.theory) must lie in each point's 99.9 % interval.
+    from tonebank.cli import link_demo
+    for row in link_demo(n_symbols=60):
+        low, high = row["errors"].interval(0.999)
+        assert low <= row["ber_theory"] <= high
+        assert row["mer_db"] == pytest.approx(-20 * np.log10(row["evm_percent"] / 100))

@@ -22,6 +22,16 @@ Each implementation module provides:
     Prepare ``run(x, out)``, which does what ``fft(x, out, inverse, scale)``
     does for arrays of that last-axis length ``n`` and dtype, with the
     per-call work (plan look-up, constants) done once.
+``ofdm_runner(n, dtype, bins_a, bins_b) -> runner``
+    Fused OFDM symbols on an ``n``-point transform: values of table "a"
+    go to FFT positions ``bins_a`` and of table "b" to ``bins_b``
+    (distinct, natural FFT order, ``numpy.uintp``).  The runner's
+    ``synthesize(a, b, cp, out, scale)`` scatters, inverse-transforms and
+    writes each symbol with its cyclic prefix; ``analyze(x, cp, a, b,
+    scale)`` skips the prefixes, transforms and gathers.
+    ``synthesizer(n_symbols, cp, b, scale)`` and ``analyzer(n_symbols,
+    cp, scale)`` return prepared single-signal calls with those arguments
+    bound.  Shapes and layouts: :class:`tonebank._kernel._numpy._OfdmRunner`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 
