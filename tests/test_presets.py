@@ -32,6 +32,7 @@ from fractions import Fraction
 import numpy as np
 import pytest
 
+import tonebank
 import tonebank.presets as presets_module
 from tonebank import presets
 from tonebank.plan import CarrierPlan
@@ -605,3 +606,26 @@ def test_docstring_examples_run():
     result = doctest.testmod(presets_module, optionflags=doctest.ELLIPSIS
                              | doctest.NORMALIZE_WHITESPACE)
     assert result.attempted > 10 and result.failed == 0
+
+
+def test_wlan_long_training_through_the_plan_and_waveform():
+    # IEEE 802.11a-1999 clause 17.3.3: the long training field is a 32-sample
+    # guard interval (GI2) followed by two 64-sample long symbols.  Built
+    # here through a CarrierPlan over the 52 training subcarriers and
+    # CpOfdm with a prefix pattern (32, 0): the GI2 must be the tail of the
+    # long symbol, the two symbols identical, and the whole equal to the
+    # preset's preamble (which uses numpy.fft.ifft, scale 1/64, against
+    # CpOfdm's unitary 1/8).
+    long_grid = presets.ieee80211a_long_training()
+    bins = np.flatnonzero(long_grid)
+    signed = np.where(bins >= 32, bins - 64, bins)
+    plan = tonebank.CarrierPlan(64, data=signed, cp_length=[32, 0], sample_rate=20e6)
+    ofdm = tonebank.CpOfdm(plan)
+    field = ofdm.synthesize(np.stack([long_grid, long_grid]))
+    assert field.shape == (160,)
+    np.testing.assert_array_equal(field[:32], field[64:96])        # GI2 = tail
+    np.testing.assert_allclose(field[32:96], field[96:160], atol=0)  # 64-sample period
+    np.testing.assert_allclose(field / 8, presets.ieee80211a_preamble()[160:], atol=1e-15)
+    data, _ = plan.take(ofdm.analyze(field))
+    np.testing.assert_allclose(data.reshape(2, -1), long_grid[plan.data_bins][None].repeat(2, 0),
+                               atol=1e-14)
