@@ -9,9 +9,13 @@ finds each benchmark through its ``extra_info`` (impl, kind, n, batch,
 dtype; see bench_common.py) and prints, for every (dtype, n, batch), the
 median time per call of each implementation, the C kernel's throughput
 and the ratios C/numpy.fft, C/FFTW and C/scipy.fft, then the planning
-costs and an evaluation of the project's speed targets.  Implementations
-missing from the run (no C kernel, no pyfftw) show as "-" and their
-targets as "n/a"; the report itself never fails for that.
+costs and an evaluation of the project's speed targets.  A second section
+does the same for the CP-OFDM chain (test_03_ofdm.py): for every
+(direction, dtype, n, symbols), the time per call of each implementation,
+the C throughput and the ratios against the plain numpy chain and the bare
+FFTW transform, then its targets cell by cell.  Implementations missing
+from the run (no C kernel, no pyfftw) show as "-" and their targets as
+"n/a"; the report itself never fails for that.
 
 Only ratios within one run mean anything: the machines are shared and
 their load changes between runs.
@@ -41,6 +45,22 @@ EXEC_COLUMNS = (
 TARGET_BATCHED_VS_NUMPY = 1.0   # batched C FFT no slower than numpy.fft
 TARGET_BATCHED_VS_FFTW = 1.5    # batched C FFT within 1.5x of FFTW
 TARGET_SINGLE_64_VS_NUMPY = 1 / 3  # one n=64 call at most 1/3 of numpy.fft's time
+
+#: The OFDM chain's speed targets (see benchmarks/README.md).
+TARGET_OFDM_SPEEDUP = 3.0          # numpy chain / C >= 3 at 140 symbols, every n
+TARGET_OFDM_VS_FFTW = 1.5          # C / bare FFTW <= 1.5 at 140 symbols
+TARGET_OFDM_SINGLE_64 = 1 / 3      # one 64-bin symbol: C / numpy chain <= 1/3
+OFDM_BATCH_SYMBOLS = 140           # the symbols per call the batch targets apply to
+
+#: Column key -> header of the OFDM table (in order).
+OFDM_COLUMNS = (
+    ("tb_c", "C"),
+    ("tb_c_grid", "C grid"),
+    ("tb_numpy", "tb numpy"),
+    ("numpy_chain", "numpy chain"),
+    ("fftw_bare", "FFTW bare"),
+)
+OFDM_DIRECTIONS = {"ofdm_tx": "tx", "ofdm_rx": "rx"}
 
 NOTE = ("Figures are from ONE run on a shared machine: absolute times vary between "
         "runs;\nonly the ratios within this run are meaningful.")
@@ -214,6 +234,164 @@ def overhead(execute: dict) -> str:
                         "out=-bare us", "C-out= us", "numpy us", "FFTW us"])
 
 
+# -- the OFDM chain -------------------------------------------------------------
+
+
+def load_ofdm(path: Path, stat: str = "median") -> dict:
+    """Return the OFDM benchmarks of a pytest-benchmark JSON file.
+
+    ``rows[(kind, dtype, n, symbols)]`` is a dict with ``times`` (impl ->
+    seconds per call, the chosen statistic) and the plan facts stored by
+    ``bench_common.label_ofdm`` (``samples``, ``cp``, ``n_data``,
+    ``n_pilots``).  Anything else in the file is ignored.
+    """
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") not in OFDM_DIRECTIONS:
+            continue
+        try:
+            key = (info["kind"], str(info["dtype"]), int(info["n"]), int(info["symbols"]))
+            seconds = float(bench["stats"][stat])
+            facts = {k: int(info[k]) for k in ("samples", "cp", "n_data", "n_pilots")}
+        except (KeyError, TypeError, ValueError):
+            continue
+        row = rows.setdefault(key, {"times": {}, **facts})
+        row["times"][str(info["impl"])] = seconds
+    return rows
+
+
+def ofdm_sort_key(key: tuple) -> tuple:
+    """Transmit before receive, then as the FFT rows, most symbols first."""
+    kind, dtype, n, symbols = key
+    return (list(OFDM_DIRECTIONS).index(kind), *sort_key((dtype, n, 0))[:3], -symbols)
+
+
+def ofdm_plans(rows: dict) -> list[str]:
+    """One line per size: the plan the OFDM rows were measured with."""
+    plans = {}
+    for (_, _, n, _), row in sorted(rows.items(), key=lambda item: item[0][2]):
+        used = row["n_data"] + row["n_pilots"]
+        plans.setdefault(n, f"  n={n}: {used} of {n} bins used ({row['n_data']} data + "
+                            f"{row['n_pilots']} pilots), CP {row['cp']}")
+    return list(plans.values())
+
+
+def ofdm_table(rows: dict) -> str:
+    header = ["dir", "dtype", "n", "symbols", *(f"{h} us" for _, h in OFDM_COLUMNS),
+              "C Msa/s", "chain/C", "C/FFTW", "grid/FFTW"]
+    out = []
+    for key in sorted(rows, key=ofdm_sort_key):
+        kind, dtype, n, symbols = key
+        times = rows[key]["times"]
+        c = times.get("tb_c")
+        out.append([
+            OFDM_DIRECTIONS[kind], dtype, str(n), str(symbols),
+            *(fmt_us(times.get(impl)) for impl, _ in OFDM_COLUMNS),
+            "-" if c is None else f"{rows[key]['samples'] / c / 1e6:.1f}",
+            fmt_ratio(ratio(times.get("numpy_chain"), c)),
+            fmt_ratio(ratio(c, times.get("fftw_bare"))),
+            fmt_ratio(ratio(times.get("tb_c_grid"), times.get("fftw_bare"))),
+        ])
+    return table(out, header)
+
+
+#: The OFDM targets: (column title, summary title, cell filter, figure, test).
+#: ``figure(times)`` returns the ratio or None; ``met(value)`` says whether
+#: it is within the target.
+OFDM_TARGETS = (
+    (f"chain/C >= {TARGET_OFDM_SPEEDUP:g}",
+     f"speed-up over the plain numpy chain: numpy chain / C >= {TARGET_OFDM_SPEEDUP:g} "
+     f"({OFDM_BATCH_SYMBOLS} symbols, every n, both directions)",
+     lambda key: key[3] == OFDM_BATCH_SYMBOLS,
+     lambda t: ratio(t.get("numpy_chain"), t.get("tb_c")),
+     lambda r: r >= TARGET_OFDM_SPEEDUP),
+    (f"C/FFTW <= {TARGET_OFDM_VS_FFTW:g}",
+     f"whole fused chain within {TARGET_OFDM_VS_FFTW:g}x of the bare FFTW transform: "
+     f"C / FFTW bare <= {TARGET_OFDM_VS_FFTW:g} ({OFDM_BATCH_SYMBOLS} symbols)",
+     lambda key: key[3] == OFDM_BATCH_SYMBOLS,
+     lambda t: ratio(t.get("tb_c"), t.get("fftw_bare")),
+     lambda r: r <= TARGET_OFDM_VS_FFTW),
+    ("C/chain <= 0.33",
+     "one 64-bin symbol at most a third of the numpy chain's time: C / numpy chain "
+     "<= 0.33 (n=64, 1 symbol)",
+     lambda key: key[2] == 64 and key[3] == 1,
+     lambda t: ratio(t.get("tb_c"), t.get("numpy_chain")),
+     lambda r: r <= TARGET_OFDM_SINGLE_64),
+)
+
+
+def ofdm_targets(rows: dict) -> str:
+    """Each target cell by cell (met / missed with its figure), then a summary."""
+    header = ["dir", "dtype", "n", "symbols", *(title for title, *_ in OFDM_TARGETS)]
+    out = []
+    tally = [[0, 0, []] for _ in OFDM_TARGETS]  # met, checked, missed cells
+    for key in sorted(rows, key=ofdm_sort_key):
+        kind, dtype, n, symbols = key
+        cells = []
+        for i, (_, _, applies, figure, met) in enumerate(OFDM_TARGETS):
+            if not applies(key):
+                cells.append("")
+                continue
+            value = figure(rows[key]["times"])
+            if value is None:
+                cells.append("n/a")
+                continue
+            ok = met(value)
+            tally[i][0] += ok
+            tally[i][1] += 1
+            if not ok:
+                tally[i][2].append(f"{OFDM_DIRECTIONS[kind]} {dtype} n={n}x{symbols}: "
+                                   f"{value:.2f}")
+            cells.append(f"{value:.2f} {'met' if ok else 'MISSED'}")
+        if any(cells):
+            out.append([OFDM_DIRECTIONS[kind], dtype, str(n), str(symbols), *cells])
+    if not out:
+        return "(no OFDM target cells in this run)"
+    lines = [table(out, header), ""]
+    for (_, title, *_), (met_count, checked, missed) in zip(OFDM_TARGETS, tally):
+        if not checked:
+            verdict = "n/a (implementation missing from this run)"
+        else:
+            verdict = (f"{'MET' if not missed else 'MISSED'}: met in {met_count} of "
+                       f"{checked} cells")
+        lines.append(f"- {title}\n    {verdict}")
+        lines.extend(f"      missed: {m}" for m in missed)
+    return "\n".join(lines)
+
+
+def ofdm_section(rows: dict, stat: str) -> list[str]:
+    if not rows:
+        return ["(no OFDM benchmarks in this run)"]
+    return [
+        f"{stat.capitalize()} time per call in microseconds; one call carries `symbols` OFDM",
+        "symbols of n bins.  Plans (centred, DC empty, pilots spread evenly):",
+        *ofdm_plans(rows),
+        "tx: C = CpOfdm.modulate(data) on the C kernel (data stream -> data and pilot",
+        "bins -> unitary IFFT -> cyclic prefix, fused); C grid = CpOfdm.synthesize(grid)",
+        "on the C kernel; tb numpy = modulate on the numpy backend; numpy chain = zeros,",
+        "scatter, numpy.fft.ifft(norm='ortho'), concatenate; FFTW bare = pyfftw",
+        "FFTW.execute() of the (symbols, n) inverse transform alone (FFTW_MEASURE, one",
+        "thread, preallocated output): the floor for any implementation.",
+        "rx: C = CpOfdm.demodulate(x) (prefix strip -> FFT -> data and pilots, fused);",
+        "C grid = CpOfdm.analyze(x); tb numpy = demodulate on the numpy backend; numpy",
+        "chain = reshape, slice, numpy.fft.fft(norm='ortho'), gather; FFTW bare = the",
+        "forward transform of the (symbols, n) bodies alone.",
+        "C Msa/s = time-domain samples per call (symbols x (n + CP)) / C time, in",
+        "million complex samples per second.  chain/C = numpy chain time / C time",
+        "(the speed-up, above 1: C faster); C/FFTW and grid/FFTW = C time / bare FFTW",
+        "time (1 would be the floor).  Single symbols are call-bound: there the",
+        "microseconds are mostly per-call overhead.",
+        "",
+        ofdm_table(rows),
+        "",
+        "OFDM targets, cell by cell (blank: the target does not apply to that cell)",
+        "",
+        ofdm_targets(rows),
+    ]
+
+
 def machine_summary(machine: dict) -> str:
     tb = machine.get("tonebank") or {}
     cpu = machine.get("cpu") or {}
@@ -236,13 +414,29 @@ def machine_summary(machine: dict) -> str:
 def report(path: Path, stat: str = "median") -> str:
     results, machine = load(path, stat)
     execute = results.get("execute", {})
-    out = [
-        "tonebank FFT benchmarks",
-        "=======================",
+    ofdm = load_ofdm(path, stat)
+    head = [
+        "tonebank benchmarks",
+        "===================",
         NOTE,
         "",
         machine_summary(machine),
         "",
+    ]
+    tail = [
+        "",
+        "OFDM chain (CP-OFDM, test_03_ofdm.py)",
+        "-------------------------------------",
+        *ofdm_section(ofdm, stat),
+        "",
+        NOTE.replace("\n", " "),
+    ]
+    if not any(results.get(kind) for kind in ("execute", "plan", "first_call")):
+        return "\n".join([*head, "FFT", "---", "(no FFT benchmarks in this run)", *tail])
+    out = [
+        *head,
+        "FFT",
+        "---",
         f"{stat.capitalize()} time per call in microseconds (one call transforms `batch` rows of n",
         "points along the last axis).  C = tonebank.fft on the C kernel; C out= = the",
         "same with a preallocated result; C plan = calling a prepared tonebank.FftPlan;",
@@ -268,11 +462,10 @@ def report(path: Path, stat: str = "median") -> str:
         "",
         planning_table(results),
         "",
-        "Targets",
-        "-------",
-        targets(execute),
+        "FFT targets",
         "",
-        NOTE.replace("\n", " "),
+        targets(execute),
+        *tail,
     ]
     return "\n".join(out)
 

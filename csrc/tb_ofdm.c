@@ -23,10 +23,10 @@
  * directly (element e of symbol r at W[e*8 + r]).
  *
  * Plan memory: one allocation
- *     +----------------------+--------------------+--------------------+
- *     | struct tb_ofdm_plan  | bins_a: n_a size_t | bins_b: n_b size_t |
- *     +----------------------+--------------------+--------------------+
- * plus the FFT plan it owns.
+ *     +---------------------+-------------+-------------+-----------------+
+ *     | struct tb_ofdm_plan | runs of a   | runs of b   | runs of nulls   |
+ *     +---------------------+-------------+-------------+-----------------+
+ * (see tb_run below) plus the FFT plan it owns.
  *
  * Workspace (tb_ofdm_workspace_size): the FFT's workspace followed by one
  * interleaved row of n complex values (analysis of one symbol writes its
@@ -38,13 +38,72 @@
 #include "tonebank.h"
 #include "tb_internal.h"
 
+/*
+ * Bin tables are kept as runs of consecutive positions, because plans
+ * are made of runs (a band of data subcarriers between two pilots, a
+ * guard band): run r of a table covers values k .. k+len-1 of the
+ * table, which sit at FFT positions pos .. pos+len-1.  The scatter and
+ * gather then move whole runs with unit-stride loops, and the null bins
+ * (every position in neither table, also as runs) are the only ones
+ * zeroed before a synthesis.  For a 52-of-64 plan with 4 pilots:
+ *
+ *     table a (48 data):  runs (k=0,  pos=38, len=5), (k=5, pos=44, len=13), ...
+ *     nulls:              (pos=0, len=1) (DC), (pos=27, len=11) (guards)
+ */
+typedef struct {
+    size_t k, pos, len;
+} tb_run;
+
 struct tb_ofdm_plan {
     tb_fft_plan *fft;
     size_t n;
     size_t n_a, n_b;
-    const size_t *bins_a; /* inside this block */
-    const size_t *bins_b; /* inside this block (NULL when n_b == 0) */
+    size_t nrun_a, nrun_b, nrun_null;
+    const tb_run *run_a;    /* inside this block */
+    const tb_run *run_b;    /* inside this block, after run_a */
+    const tb_run *run_null; /* inside this block, after run_b (k unused) */
 };
+
+/* Runs of a table of positions (or, with tab == NULL, of the positions
+ * where owner[pos] == 0); writes them to out when out != NULL and
+ * returns their number. */
+static size_t tb_ofdm_runs(const size_t *tab, size_t count, const unsigned char *owner,
+                           size_t n, tb_run *out)
+{
+    size_t nrun = 0, i = 0;
+    if (tab != NULL) {
+        while (i < count) {
+            size_t len = 1;
+            while (i + len < count && tab[i + len] == tab[i] + len)
+                len++;
+            if (out != NULL) {
+                out[nrun].k = i;
+                out[nrun].pos = tab[i];
+                out[nrun].len = len;
+            }
+            nrun++;
+            i += len;
+        }
+    } else {
+        while (i < n) {
+            size_t len = 0;
+            if (owner[i]) {
+                i++;
+                continue;
+            }
+            while (i + len < n && !owner[i + len])
+                len++;
+            if (out != NULL) {
+                out[nrun].k = 0;
+                out[nrun].pos = i;
+                out[nrun].len = len;
+            }
+            nrun++;
+            i += len;
+        }
+    }
+    return nrun;
+}
 
 /* Where symbol `s` of signal `q` lives; filled in symbol order. */
 typedef struct {
@@ -73,7 +132,7 @@ int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_
 {
     tb_ofdm_plan *p;
     unsigned char *seen;
-    size_t k;
+    size_t k, nrun_a, nrun_b, nrun_null;
     int st;
 
     if (plan_out == NULL)
@@ -100,30 +159,43 @@ int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_
         else
             seen[pos] = 1;
     }
-    free(seen);
-    if (st != TB_OK)
+    if (st != TB_OK) {
+        free(seen);
         return st;
+    }
+    nrun_a = tb_ofdm_runs(bins_a, n_a, NULL, n, NULL);
+    nrun_b = n_b > 0 ? tb_ofdm_runs(bins_b, n_b, NULL, n, NULL) : 0;
+    nrun_null = tb_ofdm_runs(NULL, 0, seen, n, NULL);
 
-    p = (tb_ofdm_plan *)malloc(sizeof(tb_ofdm_plan) + (n_a + n_b) * sizeof(size_t));
-    if (p == NULL)
+    p = (tb_ofdm_plan *)malloc(sizeof(tb_ofdm_plan) +
+                               (nrun_a + nrun_b + nrun_null) * sizeof(tb_run));
+    if (p == NULL) {
+        free(seen);
         return TB_ERR_NOMEM;
+    }
     st = tb_fft_plan_create(n, precision, &p->fft);
     if (st != TB_OK) {
+        free(seen);
         free(p);
         return st;
     }
     {
-        size_t *tab = (size_t *)(p + 1);
-        if (n_a > 0)
-            memcpy(tab, bins_a, n_a * sizeof(size_t));
+        tb_run *runs = (tb_run *)(p + 1);
+        tb_ofdm_runs(bins_a, n_a, NULL, n, runs);
         if (n_b > 0)
-            memcpy(tab + n_a, bins_b, n_b * sizeof(size_t));
-        p->bins_a = tab;
-        p->bins_b = n_b > 0 ? tab + n_a : NULL;
+            tb_ofdm_runs(bins_b, n_b, NULL, n, runs + nrun_a);
+        tb_ofdm_runs(NULL, 0, seen, n, runs + nrun_a + nrun_b);
+        p->run_a = runs;
+        p->run_b = runs + nrun_a;
+        p->run_null = runs + nrun_a + nrun_b;
     }
+    free(seen);
     p->n = n;
     p->n_a = n_a;
     p->n_b = n_b;
+    p->nrun_a = nrun_a;
+    p->nrun_b = nrun_b;
+    p->nrun_null = nrun_null;
     *plan_out = p;
     return TB_OK;
 }

@@ -8,35 +8,65 @@
 
 /* Scatter one symbol's a and b values into split storage (re, im) with
  * element stride `step` (1 for a single row in W0, TB_FFT_LANES for a
- * lane); the storage has been zeroed. */
+ * lane), and zero the null bins: afterwards every one of the n bins has
+ * been written. */
 static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, REAL *re,
                          REAL *im, size_t step)
 {
-    size_t k;
-    for (k = 0; k < p->n_a; k++) {
-        re[p->bins_a[k] * step] = a[2 * k];
-        im[p->bins_a[k] * step] = a[2 * k + 1];
+    size_t r, i;
+    for (r = 0; r < p->nrun_a; r++) {
+        const tb_run *u = &p->run_a[r];
+        const REAL *src = a + 2 * u->k;
+        REAL *dr = re + u->pos * step, *di = im + u->pos * step;
+        for (i = 0; i < u->len; i++) {
+            dr[i * step] = src[2 * i];
+            di[i * step] = src[2 * i + 1];
+        }
     }
     if (b != NULL)
-        for (k = 0; k < p->n_b; k++) {
-            re[p->bins_b[k] * step] = b[2 * k];
-            im[p->bins_b[k] * step] = b[2 * k + 1];
+        for (r = 0; r < p->nrun_b; r++) {
+            const tb_run *u = &p->run_b[r];
+            const REAL *src = b + 2 * u->k;
+            REAL *dr = re + u->pos * step, *di = im + u->pos * step;
+            for (i = 0; i < u->len; i++) {
+                dr[i * step] = src[2 * i];
+                di[i * step] = src[2 * i + 1];
+            }
         }
+    for (r = 0; r < p->nrun_null; r++) {
+        const tb_run *u = &p->run_null[r];
+        REAL *dr = re + u->pos * step, *di = im + u->pos * step;
+        for (i = 0; i < u->len; i++) {
+            dr[i * step] = 0;
+            di[i * step] = 0;
+        }
+    }
 }
 
-/* Gather one symbol's a and b values from split storage, times scale. */
+/* Gather one symbol's a and b values from split storage (element stride
+ * `step`, in REALs), times scale. */
 static void SFX(gather)(const tb_ofdm_plan *p, const REAL *re, const REAL *im,
                         size_t step, REAL scale, REAL *a, REAL *b)
 {
-    size_t k;
-    for (k = 0; k < p->n_a; k++) {
-        a[2 * k] = scale * re[p->bins_a[k] * step];
-        a[2 * k + 1] = scale * im[p->bins_a[k] * step];
+    size_t r, i;
+    for (r = 0; r < p->nrun_a; r++) {
+        const tb_run *u = &p->run_a[r];
+        const REAL *sr = re + u->pos * step, *si = im + u->pos * step;
+        REAL *dst = a + 2 * u->k;
+        for (i = 0; i < u->len; i++) {
+            dst[2 * i] = scale * sr[i * step];
+            dst[2 * i + 1] = scale * si[i * step];
+        }
     }
     if (b != NULL)
-        for (k = 0; k < p->n_b; k++) {
-            b[2 * k] = scale * re[p->bins_b[k] * step];
-            b[2 * k + 1] = scale * im[p->bins_b[k] * step];
+        for (r = 0; r < p->nrun_b; r++) {
+            const tb_run *u = &p->run_b[r];
+            const REAL *sr = re + u->pos * step, *si = im + u->pos * step;
+            REAL *dst = b + 2 * u->k;
+            for (i = 0; i < u->len; i++) {
+                dst[2 * i] = scale * sr[i * step];
+                dst[2 * i + 1] = scale * si[i * step];
+            }
         }
 }
 
@@ -66,8 +96,6 @@ int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_sym
             tb_ofdm_cursor at[TB_FFT_LANES];
             REAL *re, *im;
             size_t r, e;
-            memset(w, 0, n * L * sizeof(REAL));
-            memset(w + f->half, 0, n * L * sizeof(REAL));
             for (r = 0; r < L; r++) {
                 const ptrdiff_t q = (ptrdiff_t)c.q, s = (ptrdiff_t)c.s;
                 at[r] = c;
@@ -98,8 +126,6 @@ int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_sym
             const size_t ncp = cp[c.s];
             REAL *sym = out + 2 * (q * out_batch_stride + (ptrdiff_t)c.offset);
             REAL *body = sym + 2 * ncp;
-            memset(w, 0, n * sizeof(REAL));
-            memset(w + f->half, 0, n * sizeof(REAL));
             SFX(scatter)(plan, a + 2 * (q * a_batch_stride + s * a_symbol_stride),
                          b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL, w,
                          w + f->half, 1);
