@@ -219,14 +219,22 @@ class CpOfdm(Waveform):
                     self._runners[key] = runner
         return runner
 
-    def _prepared(self, kind: str, dtype: np.dtype, n_symbols: int, start: int):
-        """The kernel call for one signal of ``n_symbols`` symbols from
-        ``start``, with prefixes and default pilots bound in.  Returns
-        ``(run, total_samples)``."""
+    def _prepared(self, kind: str, dtype: np.dtype, count: int, start: int):
+        """The kernel call for one signal from symbol ``start``, with
+        prefixes and default pilots bound in.
+
+        ``count`` is the number of symbols for the transmit kinds
+        ("modulate", "synthesize") and the number of input samples for the
+        receive kinds ("demodulate", "analyze"), so that a repeated call
+        of the same size costs one look-up.  Returns ``(run, size)``: size
+        is the number of output samples (transmit) or of symbols (receive).
+        """
         impl = _kernel.active()
-        key = (impl.NAME, kind, dtype.char, n_symbols, start % self._phases)
+        key = (impl.NAME, kind, dtype.char, count, start % self._phases)
         hit = self._fast.get(key)
         if hit is None:
+            receive = kind in ("demodulate", "analyze")
+            n_symbols = self._count_symbols(count, start) if receive else count
             cp, total = self._layout(n_symbols, start)
             if kind == "modulate":
                 b = self._default_pilots(n_symbols, start, dtype) if self._n_pilots else None
@@ -237,7 +245,7 @@ class CpOfdm(Waveform):
                 run = self._runner(dtype, False).synthesizer(n_symbols, cp, None, self._scale)
             else:
                 run = self._runner(dtype, False).analyzer(n_symbols, cp, self._scale)
-            hit = (run, total)
+            hit = (run, n_symbols if receive else total)
             with self._lock:
                 if len(self._fast) >= _CACHE_SIZE:
                     self._fast.clear()
@@ -376,8 +384,8 @@ class CpOfdm(Waveform):
                 and type(start_symbol) is int and start_symbol >= 0
                 and samples.flags.c_contiguous
                 and (samples.dtype is _C128 or samples.dtype is _C64)):
-            n_symbols = self._count_symbols(samples.shape[0], start_symbol)
-            run, _ = self._prepared("analyze", samples.dtype, n_symbols, start_symbol)
+            run, n_symbols = self._prepared("analyze", samples.dtype, samples.shape[0],
+                                            start_symbol)
             grid = np.empty((n_symbols, self._plan.n_fft), samples.dtype)
             run(samples, grid, None)
             return grid
@@ -486,8 +494,8 @@ class CpOfdm(Waveform):
                 and type(start_symbol) is int and start_symbol >= 0
                 and samples.flags.c_contiguous
                 and (samples.dtype is _C128 or samples.dtype is _C64)):
-            n_symbols = self._count_symbols(samples.shape[0], start_symbol)
-            run, _ = self._prepared("demodulate", samples.dtype, n_symbols, start_symbol)
+            run, n_symbols = self._prepared("demodulate", samples.dtype, samples.shape[0],
+                                            start_symbol)
             data = np.empty(n_symbols * self._n_data, samples.dtype)
             pilots = np.empty((n_symbols, self._n_pilots), samples.dtype)
             run(samples, data, pilots if self._n_pilots else None)
