@@ -22,8 +22,10 @@ __all__ = ["CpOfdm"]
 
 _C128 = np.dtype(np.complex128)
 _C64 = np.dtype(np.complex64)
-#: Entries kept in each per-waveform cache of prefix and pilot layouts.
-_CACHE_SIZE = 64
+#: Entries kept in each per-waveform cache of prefix and pilot layouts
+#: (enough for a symbol-by-symbol stream through a 127-symbol pilot
+#: sequence without evictions).
+_CACHE_SIZE = 256
 
 
 def _complex_dtype(arr: np.ndarray, name: str) -> np.dtype:
@@ -134,7 +136,8 @@ class CpOfdm(Waveform):
         # Prepared single-signal calls (see _prepared): the whole per-call
         # work of the common case is one dict look-up and one kernel call.
         self._fast: dict = {}
-        self._phases = math.lcm(len(plan.cp_lengths), plan.pilot_values.shape[0])
+        self._cp_period = len(plan.cp_lengths)
+        self._phases = math.lcm(self._cp_period, plan.pilot_values.shape[0])
         self._n_data = plan.n_data
         self._n_pilots = plan.n_pilots
 
@@ -230,7 +233,9 @@ class CpOfdm(Waveform):
         is the number of output samples (transmit) or of symbols (receive).
         """
         impl = _kernel.active()
-        key = (impl.NAME, kind, dtype.char, count, start % self._phases)
+        # Only modulate binds pilots; the others repeat with the prefix pattern.
+        phase = start % (self._phases if kind == "modulate" else self._cp_period)
+        key = (impl.NAME, kind, dtype.char, count, phase)
         hit = self._fast.get(key)
         if hit is None:
             receive = kind in ("demodulate", "analyze")
