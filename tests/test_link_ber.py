@@ -5,9 +5,10 @@ used subcarrier) -> CpOfdm.demodulate -> Constellation.demap, for BPSK,
 QPSK and Gray 16/64/256-QAM, both precisions, both backends.
 
 Theory: BPSK/QPSK Q(sqrt(2 Eb/N0)) and the exact Gray square-QAM BER of
-K. Cho and D. Yoon, IEEE Trans. Commun. 50(7), 2002 (tonebank.theory,
-itself checked against numerical integration in test_theory.py), taken at
-the SNR each subcarrier sees after the cyclic-prefix loss.
+K. Cho and D. Yoon, IEEE Trans. Commun. 50(7), 2002 (citation from
+memory), as implemented in tonebank.theory and checked there against
+numerical integration (test_theory.py), taken at the SNR each subcarrier
+sees after the cyclic-prefix loss.
 
 Confidence: each point is accepted when the theoretical BER lies in the
 99.9 % Clopper-Pearson interval of the simulated count.  Bits of one QAM
