@@ -2,8 +2,8 @@
  * tb_ofdm_impl.h -- precision template of the fused OFDM operations
  * (internal).  tb_ofdm.c includes it once per precision after defining
  * REAL (float or double), PREC (TB_FLOAT32 or TB_FLOAT64) and SFX(name)
- * (name##_f32 or name##_f64).  The
- * layouts are pictured at the top of tb_ofdm.c.
+ * (name##_f32 or name##_f64).  The layouts are pictured at the top of
+ * tb_ofdm.c.
  */
 
 /* Scatter one symbol's a and b values into split storage (re, im) with
