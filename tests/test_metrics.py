@@ -91,9 +91,9 @@ def test_count_is_immutable():
 
 
 @pytest.mark.parametrize("call, error, match", [
-    (lambda: ErrorCount(-1, 10), ValueError, "errors=-1"),
+    (lambda: ErrorCount(-1, 10), ValueError, "errors must be >= 0, got -1"),
     (lambda: ErrorCount(11, 10), ValueError, "errors=11 exceeds total=10"),
-    (lambda: ErrorCount(1, -1), ValueError, "total=-1"),
+    (lambda: ErrorCount(1, -1), ValueError, "total must be >= 0, got -1"),
     (lambda: ErrorCount(1.0, 10), TypeError, "errors"),
     (lambda: ErrorCount(True, 10), TypeError, "errors"),
     (lambda: ErrorCount(1, "10"), TypeError, "total"),

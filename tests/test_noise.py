@@ -379,7 +379,7 @@ PLAN = _plan()
     (lambda: awgn(1.0, 3), ValueError, "x must have at least one dimension"),
     (lambda: awgn(np.ones((3, 0)), 3), ValueError, "no samples"),
     (lambda: awgn(X, 3, convention="esn0", plan=PLAN, oversampling=0), ValueError,
-     "oversampling=0"),
+     "oversampling must be >= 1, got 0"),
     (lambda: awgn(X, 3, convention="esn0", plan=PLAN, oversampling=1.5), TypeError,
      "oversampling"),
     (lambda: awgn(X, 3, convention="esn0", plan=object()), TypeError, "plan must be"),

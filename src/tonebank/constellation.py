@@ -40,10 +40,11 @@ from __future__ import annotations
 
 import math
 import numbers
-import operator
 
 import numpy as np
 from scipy.special import logsumexp
+
+from ._checks import integer
 
 __all__ = ["Constellation"]
 
@@ -425,7 +426,7 @@ class Constellation:
         >>> qam64.map([1, 0, 0, 1, 0, 0]) * np.sqrt(42)   # 100 -> +7, 100 -> +7
         array([7.+7.j])
         """
-        m = _as_int(m, "m")
+        m = integer(m, "m")
         if m not in QAM_ORDERS:
             raise ValueError(f"m={m} is not a supported square QAM order; allowed: "
                              f"{', '.join(map(str, QAM_ORDERS))}")
@@ -484,7 +485,7 @@ class Constellation:
         >>> bool(np.allclose(Constellation.psk(4).points, Constellation.qpsk().points))
         True
         """
-        m = _as_int(m, "m")
+        m = integer(m, "m")
         if m < 2 or m > MAX_PSK_ORDER or m & (m - 1):
             raise ValueError(f"m={m} is not allowed; PSK needs a power of two from 2 "
                              f"to {MAX_PSK_ORDER}")
@@ -984,15 +985,6 @@ def _rebuild(kind, name, offset, points):
     if kind == "psk":
         return Constellation.psk(points.size, phase_offset=offset)
     return Constellation(points, name=name)
-
-
-def _as_int(value, argument: str) -> int:
-    if isinstance(value, (bool, np.bool_)):
-        raise TypeError(f"{argument} must be an integer; got {value!r}")
-    try:
-        return operator.index(value)
-    except TypeError:
-        raise TypeError(f"{argument} must be an integer; got {value!r}") from None
 
 
 def _as_real(value, argument: str) -> float:

@@ -20,23 +20,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ._checks import integer
+
 __all__ = ["ErrorCount", "bit_errors", "evm", "mer_db", "symbol_errors"]
 
 _METHODS = ("wilson", "clopper-pearson")
 _UNITS = ("percent", "db", "ratio")
-
-
-def _count(value, name: str) -> int:
-    if isinstance(value, (bool, np.bool_)):
-        raise TypeError(f"{name} must be a non-negative integer; got {value!r}")
-    try:
-        result = operator.index(value)
-    except TypeError:
-        raise TypeError(f"{name} must be a non-negative integer; got {value!r} "
-                        f"({type(value).__name__})") from None
-    if result < 0:
-        raise ValueError(f"{name}={result} is not allowed; need {name} >= 0")
-    return int(result)
 
 
 @dataclass(frozen=True, slots=True)
@@ -90,8 +79,8 @@ class ErrorCount:
     total: int
 
     def __post_init__(self):
-        errors = _count(self.errors, "errors")
-        total = _count(self.total, "total")
+        errors = integer(self.errors, "errors", minimum=0)
+        total = integer(self.total, "total", minimum=0)
         if errors > total:
             raise ValueError(f"errors={errors} exceeds total={total}; need errors <= total")
         object.__setattr__(self, "errors", errors)

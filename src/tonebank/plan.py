@@ -35,21 +35,14 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from ._checks import integer
+
 __all__ = ["CarrierPlan"]
 
 
 def _readonly(a: np.ndarray) -> np.ndarray:
     a.flags.writeable = False
     return a
-
-
-def _int_arg(value, name: str, *, minimum: int) -> int:
-    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
-        raise TypeError(f"{name} must be an integer, got {value!r}")
-    value = int(value)
-    if value < minimum:
-        raise ValueError(f"{name} must be >= {minimum}, got {value}")
-    return value
 
 
 def _subcarrier_set(values, name: str, n_fft: int) -> np.ndarray:
@@ -153,7 +146,7 @@ class CarrierPlan:
     def __init__(self, n_fft: int, *, data, pilots=(), pilot_values=None,
                  cp_length: int | Sequence[int] = 0, sample_rate: float | None = None,
                  name: str | None = None):
-        n_fft = _int_arg(n_fft, "n_fft", minimum=1)
+        n_fft = integer(n_fft, "n_fft", minimum=1)
         data = _subcarrier_set(data, "data", n_fft)
         pilots = _subcarrier_set(pilots, "pilots", n_fft)
         both = np.intersect1d(data, pilots)
@@ -268,8 +261,8 @@ class CarrierPlan:
         >>> plan.n_data, plan.pilot_subcarriers.tolist()
         (48, [-20, -7, 7, 20])
         """
-        n_fft = _int_arg(n_fft, "n_fft", minimum=1)
-        n_active = _int_arg(n_active, "n_active", minimum=1)
+        n_fft = integer(n_fft, "n_fft", minimum=1)
+        n_active = integer(n_active, "n_active", minimum=1)
         room = n_fft - 1 if dc_null else n_fft
         if n_active > room:
             raise ValueError(f"n_active={n_active} does not fit in n_fft={n_fft}"
@@ -286,8 +279,8 @@ class CarrierPlan:
         if pilot_spacing is None:
             pilot_mask = np.zeros(n_active, dtype=bool)
         else:
-            pilot_spacing = _int_arg(pilot_spacing, "pilot_spacing", minimum=2)
-            pilot_offset = _int_arg(pilot_offset, "pilot_offset", minimum=0)
+            pilot_spacing = integer(pilot_spacing, "pilot_spacing", minimum=2)
+            pilot_offset = integer(pilot_offset, "pilot_offset", minimum=0)
             if pilot_offset >= pilot_spacing:
                 raise ValueError(f"pilot_offset={pilot_offset} must be below "
                                  f"pilot_spacing={pilot_spacing}")
@@ -453,8 +446,8 @@ class CarrierPlan:
         ndarray of int
             Shape ``(n_symbols,)``.
         """
-        n_symbols = _int_arg(n_symbols, "n_symbols", minimum=0)
-        start_symbol = _int_arg(start_symbol, "start_symbol", minimum=0)
+        n_symbols = integer(n_symbols, "n_symbols", minimum=0)
+        start_symbol = integer(start_symbol, "start_symbol", minimum=0)
         pattern = np.asarray(self._cp, dtype=np.intp)
         return pattern[(start_symbol + np.arange(n_symbols)) % pattern.size]
 
@@ -464,8 +457,8 @@ class CarrierPlan:
 
     def pilots_for(self, n_symbols: int, start_symbol: int = 0) -> np.ndarray:
         """The plan's pilot values for ``n_symbols`` symbols, shape ``(n_symbols, n_pilots)``."""
-        n_symbols = _int_arg(n_symbols, "n_symbols", minimum=0)
-        start_symbol = _int_arg(start_symbol, "start_symbol", minimum=0)
+        n_symbols = integer(n_symbols, "n_symbols", minimum=0)
+        start_symbol = integer(start_symbol, "start_symbol", minimum=0)
         period = self._pilot_values.shape[0]
         return self._pilot_values[(start_symbol + np.arange(n_symbols)) % period]
 
@@ -478,7 +471,7 @@ class CarrierPlan:
             When ``n_values`` is not a multiple of ``n_data``; the message
             says how many values of padding would complete the last symbol.
         """
-        n_values = _int_arg(n_values, "n_values", minimum=0)
+        n_values = integer(n_values, "n_values", minimum=0)
         full, rest = divmod(n_values, self.n_data)
         if rest:
             raise ValueError(

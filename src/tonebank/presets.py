@@ -49,6 +49,7 @@ from fractions import Fraction
 
 import numpy as np
 
+from ._checks import integer
 from .plan import CarrierPlan
 
 __all__ = [
@@ -76,19 +77,6 @@ __all__ = [
 def _readonly(a: np.ndarray) -> np.ndarray:
     a.flags.writeable = False
     return a
-
-
-def _int_arg(value, name: str) -> int:
-    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
-        raise TypeError(f"{name} must be an integer, got {value!r}")
-    return int(value)
-
-
-def _int_in(value, name: str, lo: int, hi: int) -> int:
-    value = _int_arg(value, name)
-    if not lo <= value <= hi:
-        raise ValueError(f"{name} must be in {lo}..{hi}, got {value}")
-    return value
 
 
 def _cp_kind(cp) -> str:
@@ -205,7 +193,7 @@ def ieee80211a(*, polarity_start: int = 1, name: str | None = None) -> CarrierPl
     >>> plan.pilot_values.shape, plan.pilot_values[3].real.tolist()
     ((127, 4), [-1.0, -1.0, -1.0, 1.0])
     """
-    polarity_start = _int_in(polarity_start, "polarity_start", 0, 126)
+    polarity_start = integer(polarity_start, "polarity_start", minimum=0, maximum=126)
     name = _name_arg(name)
     used = np.concatenate((np.arange(-26, 0), np.arange(1, 27)))
     data = np.setdiff1d(used, _WLAN_PILOTS)
@@ -437,7 +425,7 @@ def nr_numerology(mu: int, cp: str = "normal") -> NrNumerology:
     >>> n.subcarrier_spacing, n.symbols_per_slot, n.slots_per_frame
     (30000.0, 14, 20)
     """
-    mu = _int_in(mu, "mu", 0, 4)
+    mu = integer(mu, "mu", minimum=0, maximum=4)
     cp = _cp_kind(cp)
     if cp == "extended" and mu != 2:
         raise ValueError(f"cp='extended' exists only for mu=2 (60 kHz), got mu={mu} "
@@ -556,13 +544,13 @@ def nr(mu: int, n_rb: int, *, n_fft: int | None = None, cp: str = "normal",
     """
     numerology = nr_numerology(mu, cp)
     mu = numerology.mu
-    n_rb = _int_in(n_rb, "n_rb", 1, _NR_MAX_RB)
+    n_rb = integer(n_rb, "n_rb", minimum=1, maximum=_NR_MAX_RB)
     name = _name_arg(name)
     n_sc = 12 * n_rb
     if n_fft is None:
         n_fft = _nr_default_fft(n_sc)
     else:
-        n_fft = _int_arg(n_fft, "n_fft")
+        n_fft = integer(n_fft, "n_fft")
         if n_fft < n_sc:
             raise ValueError(f"n_rb={n_rb} needs {n_sc} subcarriers, more than n_fft={n_fft}; "
                              f"use n_fft >= {n_sc}")
@@ -661,8 +649,8 @@ def lte(n_rb: int, *, n_fft: int = 2048, cp: str = "normal",
     >>> presets.lte(6, n_fft=128).cp_lengths
     (10, 9, 9, 9, 9, 9, 9)
     """
-    n_rb = _int_in(n_rb, "n_rb", _LTE_MIN_RB, _LTE_MAX_RB)
-    n_fft = _int_arg(n_fft, "n_fft")
+    n_rb = integer(n_rb, "n_rb", minimum=_LTE_MIN_RB, maximum=_LTE_MAX_RB)
+    n_fft = integer(n_fft, "n_fft")
     cp = _cp_kind(cp)
     name = _name_arg(name)
     if n_fft < 128 or n_fft % 128:
@@ -799,7 +787,7 @@ def dvbt_reference_prbs(n: int) -> np.ndarray:
     >>> presets.dvbt_reference_prbs(23).tolist()
     [1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1, 1, 0]
     """
-    n = _int_arg(n, "n")
+    n = integer(n, "n")
     if n < 0:
         raise ValueError(f"n must be >= 0, got {n}")
     period = _dvbt_prbs_period()
@@ -937,7 +925,7 @@ def dvbt_parameters(mode: str, guard="1/4", *, channel_mhz: int = 8) -> DvbtPara
     """
     mode = _dvbt_mode(mode)
     guard = _dvbt_guard(guard)
-    channel_mhz = _int_arg(channel_mhz, "channel_mhz")
+    channel_mhz = integer(channel_mhz, "channel_mhz")
     if channel_mhz not in _DVBT_CHANNELS:
         raise ValueError(f"channel_mhz must be one of {_DVBT_CHANNELS}, got {channel_mhz}")
     n_fft, k_max, _, _ = _DVBT_MODES[mode]
@@ -1028,7 +1016,7 @@ def dvbt(mode: str, guard="1/4", *, channel_mhz: int = 8, symbol_phase: int = 0,
     9142857
     """
     params = dvbt_parameters(mode, guard, channel_mhz=channel_mhz)
-    symbol_phase = _int_in(symbol_phase, "symbol_phase", 0, 3)
+    symbol_phase = integer(symbol_phase, "symbol_phase", minimum=0, maximum=3)
     name = _name_arg(name)
     n_fft, k_max, continual, tps = _DVBT_MODES[params.mode]
     scattered = np.arange(3 * symbol_phase, k_max + 1, 12)

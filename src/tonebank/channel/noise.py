@@ -107,6 +107,8 @@ import operator
 
 import numpy as np
 
+from .._checks import generator, integer
+
 __all__ = [
     "awgn",
     "ebn0_to_snr_db",
@@ -200,19 +202,6 @@ def _positive_scalar(value, name: str, *, upper: float | None = None) -> float:
     return result
 
 
-def _check_oversampling(oversampling) -> int:
-    if isinstance(oversampling, (bool, np.bool_)):
-        raise TypeError(f"oversampling must be an integer >= 1; got {oversampling!r}")
-    try:
-        value = operator.index(oversampling)
-    except TypeError:
-        raise TypeError(f"oversampling must be an integer >= 1; got {oversampling!r} "
-                        f"({type(oversampling).__name__})") from None
-    if value < 1:
-        raise ValueError(f"oversampling={value} is not allowed; need an integer >= 1")
-    return value
-
-
 def _check_real_flag(real) -> bool:
     if not isinstance(real, (bool, np.bool_)):
         raise TypeError(f"real must be True or False; got {real!r}")
@@ -256,17 +245,6 @@ def _esn0_per_sample_snr(plan, oversampling: int, real: bool) -> float:
 def _as_result(arr: np.ndarray):
     """A Python float for a 0-d result, the float64 array otherwise."""
     return float(arr) if arr.ndim == 0 else arr
-
-
-def _as_generator(rng) -> np.random.Generator:
-    if isinstance(rng, np.random.Generator):
-        return rng
-    if rng is None:
-        return np.random.default_rng()
-    if isinstance(rng, (bool, np.bool_)) or not isinstance(rng, numbers.Integral) or rng < 0:
-        raise TypeError(f"rng must be a numpy.random.Generator, a non-negative integer seed "
-                        f"or None; got {rng!r} ({type(rng).__name__})")
-    return np.random.default_rng(int(rng))
 
 
 # -- conversions ---------------------------------------------------------------
@@ -374,7 +352,7 @@ def snr_to_esn0_db(snr_db, plan, *, oversampling=1, real=False):
     11.8709
     """
     snr = _db_values(snr_db, "snr_db")
-    factor = _esn0_per_sample_snr(plan, _check_oversampling(oversampling),
+    factor = _esn0_per_sample_snr(plan, integer(oversampling, "oversampling", minimum=1),
                                   _check_real_flag(real))
     return _as_result(snr + 10.0 * np.log10(factor))
 
@@ -435,7 +413,7 @@ def esn0_to_snr_db(esn0_db, plan, *, oversampling=1, real=False):
     5.1188
     """
     esn0 = _db_values(esn0_db, "esn0_db")
-    factor = _esn0_per_sample_snr(plan, _check_oversampling(oversampling),
+    factor = _esn0_per_sample_snr(plan, integer(oversampling, "oversampling", minimum=1),
                                   _check_real_flag(real))
     return _as_result(esn0 - 10.0 * np.log10(factor))
 
@@ -503,7 +481,7 @@ def ebn0_to_snr_db(ebn0_db, plan, bits_per_symbol, *, code_rate=1.0, oversamplin
     ebn0 = _db_values(ebn0_db, "ebn0_db")
     bits = _positive_scalar(bits_per_symbol, "bits_per_symbol")
     rate = _positive_scalar(code_rate, "code_rate", upper=1.0)
-    factor = _esn0_per_sample_snr(plan, _check_oversampling(oversampling),
+    factor = _esn0_per_sample_snr(plan, integer(oversampling, "oversampling", minimum=1),
                                   _check_real_flag(real))
     return _as_result(ebn0 + 10.0 * np.log10(bits * rate) - 10.0 * np.log10(factor))
 
@@ -749,7 +727,7 @@ def awgn(x, snr_db, *, rng=None, convention="sample", plan=None, oversampling=1,
     if convention not in _CONVENTIONS:
         raise ValueError(f"convention={convention!r} is unknown; allowed: "
                          + ", ".join(repr(c) for c in _CONVENTIONS))
-    oversampling = _check_oversampling(oversampling)
+    oversampling = integer(oversampling, "oversampling", minimum=1)
     rate = _positive_scalar(code_rate, "code_rate", upper=1.0)
     _check_extras(convention, plan, oversampling, bits_per_symbol, rate)
 
@@ -783,7 +761,7 @@ def awgn(x, snr_db, *, rng=None, convention="sample", plan=None, oversampling=1,
 
     noise_var = np.broadcast_to(power * factor / 10.0 ** (snr / 10.0), lead).astype(np.float64)
 
-    gen = _as_generator(rng)
+    gen = generator(rng)
     if real:
         noise = gen.standard_normal(x.shape)
         noise *= np.sqrt(noise_var)[..., np.newaxis]

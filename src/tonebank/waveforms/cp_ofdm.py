@@ -8,12 +8,12 @@ the prefix acts on every subcarrier as one complex gain.
 from __future__ import annotations
 
 import math
-import numbers
 import threading
 
 import numpy as np
 
 from .. import _kernel
+from .._checks import integer
 from ..plan import CarrierPlan
 from .base import Waveform
 
@@ -101,13 +101,10 @@ class CpOfdm(Waveform):
     def __init__(self, plan: CarrierPlan, *, oversampling: int = 1, real: bool = False):
         if not isinstance(plan, CarrierPlan):
             raise TypeError(f"plan must be a tonebank.CarrierPlan, got {type(plan).__name__}")
-        if (isinstance(oversampling, bool) or not isinstance(oversampling, numbers.Integral)
-                or oversampling < 1):
-            raise ValueError(f"oversampling must be an integer >= 1, got {oversampling!r}")
         if not isinstance(real, bool):
             raise TypeError(f"real must be True or False, got {real!r}")
         self._plan = plan
-        self._os = int(oversampling)
+        self._os = integer(oversampling, "oversampling", minimum=1)
         self._real = real
         n = plan.n_fft
         size = self._os * n
@@ -286,10 +283,7 @@ class CpOfdm(Waveform):
     def _start(self, start_symbol) -> int:
         if type(start_symbol) is int and start_symbol >= 0:
             return start_symbol
-        if (isinstance(start_symbol, bool) or not isinstance(start_symbol, numbers.Integral)
-                or start_symbol < 0):
-            raise ValueError(f"start_symbol must be an integer >= 0, got {start_symbol!r}")
-        return int(start_symbol)
+        return integer(start_symbol, "start_symbol", minimum=0)
 
     def _finish(self, out: np.ndarray, lead: tuple) -> np.ndarray:
         if self._real:
