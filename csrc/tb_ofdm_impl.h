@@ -6,68 +6,63 @@
  * tb_ofdm.c.
  */
 
-/* Scatter one symbol's a and b values into split storage (re, im) with
- * element stride `step` (1 for a single row in W0, TB_FFT_LANES for a
- * lane), and zero the null bins: afterwards every one of the n bins has
- * been written. */
+/* Copy interleaved values src[k] to split storage (re, im) at the
+ * positions of the runs, element stride `step` (1 for a single row in W0,
+ * TB_FFT_LANES for a lane). */
+static void SFX(put_runs)(const tb_run *run, size_t nrun, const REAL *src, REAL *re,
+                          REAL *im, size_t step)
+{
+    size_t r, i;
+    for (r = 0; r < nrun; r++) {
+        const REAL *s = src + 2 * run[r].k;
+        REAL *dr = re + run[r].pos * step, *di = im + run[r].pos * step;
+        for (i = 0; i < run[r].len; i++) {
+            dr[i * step] = s[2 * i];
+            di[i * step] = s[2 * i + 1];
+        }
+    }
+}
+
+/* The reverse of put_runs, times scale. */
+static void SFX(get_runs)(const tb_run *run, size_t nrun, const REAL *re, const REAL *im,
+                          size_t step, REAL scale, REAL *dst)
+{
+    size_t r, i;
+    for (r = 0; r < nrun; r++) {
+        const REAL *sr = re + run[r].pos * step, *si = im + run[r].pos * step;
+        REAL *d = dst + 2 * run[r].k;
+        for (i = 0; i < run[r].len; i++) {
+            d[2 * i] = scale * sr[i * step];
+            d[2 * i + 1] = scale * si[i * step];
+        }
+    }
+}
+
+/* Scatter one symbol's a and b values into split storage and zero the
+ * null bins: afterwards every one of the n bins has been written. */
 static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, REAL *re,
                          REAL *im, size_t step)
 {
     size_t r, i;
-    for (r = 0; r < p->nrun_a; r++) {
-        const tb_run *u = &p->run_a[r];
-        const REAL *src = a + 2 * u->k;
-        REAL *dr = re + u->pos * step, *di = im + u->pos * step;
-        for (i = 0; i < u->len; i++) {
-            dr[i * step] = src[2 * i];
-            di[i * step] = src[2 * i + 1];
-        }
-    }
+    SFX(put_runs)(p->run_a, p->nrun_a, a, re, im, step);
     if (b != NULL)
-        for (r = 0; r < p->nrun_b; r++) {
-            const tb_run *u = &p->run_b[r];
-            const REAL *src = b + 2 * u->k;
-            REAL *dr = re + u->pos * step, *di = im + u->pos * step;
-            for (i = 0; i < u->len; i++) {
-                dr[i * step] = src[2 * i];
-                di[i * step] = src[2 * i + 1];
-            }
-        }
+        SFX(put_runs)(p->run_b, p->nrun_b, b, re, im, step);
     for (r = 0; r < p->nrun_null; r++) {
-        const tb_run *u = &p->run_null[r];
-        REAL *dr = re + u->pos * step, *di = im + u->pos * step;
-        for (i = 0; i < u->len; i++) {
+        REAL *dr = re + p->run_null[r].pos * step, *di = im + p->run_null[r].pos * step;
+        for (i = 0; i < p->run_null[r].len; i++) {
             dr[i * step] = 0;
             di[i * step] = 0;
         }
     }
 }
 
-/* Gather one symbol's a and b values from split storage (element stride
- * `step`, in REALs), times scale. */
+/* Gather one symbol's a and b values from split storage, times scale. */
 static void SFX(gather)(const tb_ofdm_plan *p, const REAL *re, const REAL *im,
                         size_t step, REAL scale, REAL *a, REAL *b)
 {
-    size_t r, i;
-    for (r = 0; r < p->nrun_a; r++) {
-        const tb_run *u = &p->run_a[r];
-        const REAL *sr = re + u->pos * step, *si = im + u->pos * step;
-        REAL *dst = a + 2 * u->k;
-        for (i = 0; i < u->len; i++) {
-            dst[2 * i] = scale * sr[i * step];
-            dst[2 * i + 1] = scale * si[i * step];
-        }
-    }
+    SFX(get_runs)(p->run_a, p->nrun_a, re, im, step, scale, a);
     if (b != NULL)
-        for (r = 0; r < p->nrun_b; r++) {
-            const tb_run *u = &p->run_b[r];
-            const REAL *sr = re + u->pos * step, *si = im + u->pos * step;
-            REAL *dst = b + 2 * u->k;
-            for (i = 0; i < u->len; i++) {
-                dst[2 * i] = scale * sr[i * step];
-                dst[2 * i + 1] = scale * si[i * step];
-            }
-        }
+        SFX(get_runs)(p->run_b, p->nrun_b, re, im, step, scale, b);
 }
 
 int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
