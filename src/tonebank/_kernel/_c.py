@@ -240,7 +240,6 @@ class _OfdmRunner:
     """
 
     def __init__(self, n, dtype, bins_a, bins_b):
-        self._n = n
         if lib.tb_fft_size_supported(n):
             self._plan = _OfdmPlan(n, np.dtype(dtype).char == "F", bins_a, bins_b)
             self._fallback = None

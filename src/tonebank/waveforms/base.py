@@ -94,6 +94,7 @@ class StreamSynthesizer:
     def __init__(self, waveform: Waveform, *, start_symbol: int = 0):
         self._waveform = waveform
         self._next = int(start_symbol)
+        self._last = None
 
     @property
     def next_symbol(self) -> int:
@@ -105,11 +106,18 @@ class StreamSynthesizer:
         grid = np.asarray(grid)
         out = self._waveform.synthesize(grid, start_symbol=self._next)
         self._next += grid.shape[-2]
+        self._last = out
         return out
 
     def flush(self) -> np.ndarray:
-        """End the stream; returns the samples still held back (none for CP-OFDM)."""
-        return np.zeros(0)
+        """End the stream; returns the samples still held back.
+
+        Symbols that do not overlap (CP-OFDM) hold nothing back: the result
+        is empty, with the batch shape and dtype of the fed chunks.
+        """
+        if self._last is None:
+            return np.zeros(0, dtype=np.complex128)
+        return np.zeros(self._last.shape[:-1] + (0,), dtype=self._last.dtype)
 
 
 class StreamAnalyzer:
