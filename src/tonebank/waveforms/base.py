@@ -5,11 +5,20 @@ natural FFT order, see :mod:`tonebank.plan`) into time-domain samples
 ``(..., n_samples)`` and back.  Leading dimensions are batch; complex64
 stays complex64, everything else runs in complex128.
 
+Overlap.  A waveform whose symbols ring on past their nominal end
+(windowed or filtered symbols) has a :attr:`Waveform.tail` of that many
+samples.  ``synthesize`` of ``S`` symbols then returns
+``n_samples(S) + tail`` samples: the burst with its ringing, so that
+bursts placed ``n_samples(S)`` apart and added give the continuous
+signal.  ``analyze`` takes the same ``n_samples(S) + tail`` samples (the
+nominal symbols and the ringing of the last one) and returns ``S``
+symbols.  For CP-OFDM the tail is 0 and both lengths are ``n_samples(S)``.
+
 Streaming: :meth:`Waveform.stream_synthesizer` and
 :meth:`Waveform.stream_analyzer` return objects that accept the same
 signal in arbitrary chunks and give exactly the one-shot result, carrying
-whatever state a symbol boundary needs between calls (the symbol count
-for prefix patterns and pilots; the overlap of windowed waveforms).
+whatever state a symbol boundary needs between calls: the symbol count
+(for prefix patterns and pilots) and the ``tail`` samples of overlap.
 """
 
 from __future__ import annotations
@@ -71,8 +80,11 @@ class StreamSynthesizer:
     Feeding the symbols of a grid in chunks returns, concatenated, exactly
     what ``waveform.synthesize(grid)`` returns in one call: the symbol
     count (for prefix patterns and pilot sequences) carries over between
-    calls.  For waveforms whose symbols do not overlap (CP-OFDM) each
-    chunk's samples are final at once.
+    calls, and the last :attr:`Waveform.tail` samples of each chunk are
+    held back and added to the start of the next.  Each :meth:`feed`
+    returns the ``n_samples`` of its symbols that are final;
+    :meth:`flush` returns the held tail.  For waveforms whose symbols do
+    not overlap (CP-OFDM) each chunk's samples are final at once.
 
     Parameters
     ----------
@@ -95,6 +107,7 @@ class StreamSynthesizer:
         self._waveform = waveform
         self._next = int(start_symbol)
         self._last = None
+        self._held = None   # the overlap carried into the next chunk
 
     @property
     def next_symbol(self) -> int:
@@ -106,15 +119,31 @@ class StreamSynthesizer:
         grid = np.asarray(grid)
         out = self._waveform.synthesize(grid, start_symbol=self._next)
         self._next += grid.shape[-2]
+        tail = self._waveform.tail
+        if tail:
+            if self._held is not None:
+                if self._held.shape[:-1] != out.shape[:-1]:
+                    raise ValueError(
+                        f"grid has batch shape {out.shape[:-1]}, but the stream started "
+                        f"with {self._held.shape[:-1]}; every chunk must have the same "
+                        "batch shape")
+                out[..., :tail] += self._held
+            self._held = out[..., out.shape[-1] - tail:].copy()
+            out = out[..., :out.shape[-1] - tail]
         self._last = out
         return out
 
     def flush(self) -> np.ndarray:
         """End the stream; returns the samples still held back.
 
-        Symbols that do not overlap (CP-OFDM) hold nothing back: the result
-        is empty, with the batch shape and dtype of the fed chunks.
+        That is the :attr:`Waveform.tail` of the last symbol (the ringing
+        past its nominal end).  Symbols that do not overlap (CP-OFDM) hold
+        nothing back: the result is empty, with the batch shape and dtype
+        of the fed chunks.
         """
+        if self._held is not None:
+            held, self._held = self._held, None
+            return held
         if self._last is None:
             return np.zeros(0, dtype=np.complex128)
         return np.zeros(self._last.shape[:-1] + (0,), dtype=self._last.dtype)
@@ -126,8 +155,10 @@ class StreamAnalyzer:
     Each :meth:`feed` returns the grid of the symbols completed so far
     (possibly none) and keeps the samples of an incomplete symbol for the
     next call, so the concatenated results equal one call of
-    ``waveform.analyze`` on the whole signal.  Every chunk must have the
-    same leading (batch) shape.
+    ``waveform.analyze`` on the whole signal.  A symbol is complete once
+    its samples and the :attr:`Waveform.tail` after them have arrived;
+    the tail stays held, since it also belongs to the next symbol.  Every
+    chunk must have the same leading (batch) shape.
 
     Parameters
     ----------
@@ -150,6 +181,7 @@ class StreamAnalyzer:
     def __init__(self, waveform: Waveform, *, start_symbol: int = 0):
         self._waveform = waveform
         self._next = int(start_symbol)
+        self._first = self._next
         self._held = None
 
     @property
@@ -159,8 +191,15 @@ class StreamAnalyzer:
 
     @property
     def pending(self) -> int:
-        """The number of samples held back (the start of a symbol not yet complete)."""
-        return 0 if self._held is None else self._held.shape[-1]
+        """The number of samples held back (the start of a symbol not yet complete).
+
+        The :attr:`Waveform.tail` of the last complete symbol is held as
+        well but not counted: a stream may end right after it.
+        """
+        held = 0 if self._held is None else self._held.shape[-1]
+        if self._next == self._first:   # no symbol yet: everything held is pending
+            return held
+        return max(0, held - self._waveform.tail)
 
     def feed(self, samples) -> np.ndarray:
         """Add samples ``(..., m)``; returns the grid of the symbols now complete."""
@@ -175,15 +214,17 @@ class StreamAnalyzer:
                     "batch shape")
             samples = np.concatenate((self._held, samples), axis=-1)
         wf = self._waveform
-        # Whole symbols in what we have (prefix patterns make lengths vary).
+        tail = wf.tail
+        # Whole symbols in what we have (prefix patterns make lengths vary),
+        # each with the overlap that follows it.
         count, used = 0, 0
         while True:
             step = wf.n_samples(1, self._next + count)
-            if used + step > samples.shape[-1]:
+            if used + step + tail > samples.shape[-1]:
                 break
             used += step
             count += 1
-        grid = wf.analyze(samples[..., :used], start_symbol=self._next)
+        grid = wf.analyze(samples[..., :used + tail], start_symbol=self._next)
         self._held = samples[..., used:].copy()
         self._next += count
         return grid
