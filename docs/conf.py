@@ -42,7 +42,16 @@ extensions = [
     "sphinx.ext.napoleon",
     "sphinx.ext.doctest",
     "mathml",
+    # Guide figures are drawn from the library at build time, so they
+    # cannot drift from the code (Agg backend, no display needed).
+    "matplotlib.sphinxext.plot_directive",
 ]
+
+plot_include_source = True
+plot_html_show_source_link = False
+plot_html_show_formats = False
+plot_formats = [("png", 90)]
+plot_rcparams = {"figure.figsize": (6.4, 3.6)}
 
 INTERSPHINX = os.environ.get("TONEBANK_DOCS_INTERSPHINX", "") == "1"
 if INTERSPHINX:
