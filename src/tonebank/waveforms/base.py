@@ -224,7 +224,13 @@ class StreamAnalyzer:
                 break
             used += step
             count += 1
-        grid = wf.analyze(samples[..., :used + tail], start_symbol=self._next)
+        if count:
+            grid = wf.analyze(samples[..., :used + tail], start_symbol=self._next)
+        else:
+            # No symbol complete: an empty grid of the right shape, from the
+            # length the protocol gives zero symbols (tail samples).
+            empty = np.zeros(samples.shape[:-1] + (tail,), dtype=samples.dtype)
+            grid = wf.analyze(empty, start_symbol=self._next)
         self._held = samples[..., used:].copy()
         self._next += count
         return grid
