@@ -375,3 +375,23 @@ def test_misaligned_views_are_handled(dtype):
     out = np.frombuffer(out_raw, dtype, count=x.size, offset=1).reshape(x.shape)
     assert tonebank.fft(x, out=out) is out
     _assert_close(out, _reference(x), dtype)
+
+
+@pytest.mark.parametrize("dtype", [np.complex64, np.complex128])
+def test_repeated_calls_take_the_prepared_path_with_the_same_results(dtype):
+    # The second and later calls of fft(x) with default arguments go through
+    # a prepared runner (and FftPlan(x) through its allocating path): every
+    # layout must still give numpy's numbers.
+    rng = np.random.default_rng(11)
+    base = (rng.standard_normal((6, 64)) + 1j * rng.standard_normal((6, 64))).astype(dtype)
+    plan = tonebank.FftPlan(64, dtype=dtype)
+    layouts = [base[0], base, base[::2], base[:, ::-1].copy()[:, ::-1], base[:0],
+               np.asfortranarray(base)]
+    for x in layouts + layouts:
+        want = np.fft.fft(x.astype(np.complex128), axis=-1)
+        for got in (tonebank.fft(x), plan(x)):
+            assert got.dtype == dtype and got.shape == x.shape
+            _assert_close(got, want, dtype)
+    for _ in range(2):
+        _assert_close(tonebank.fft(base[1], inverse=True),
+                      np.fft.ifft(base[1].astype(np.complex128)), dtype)

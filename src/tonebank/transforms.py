@@ -122,6 +122,12 @@ def fft(x, axis=-1, *, inverse=False, norm=None, out=None):
     >>> np.allclose(tonebank.fft(X, inverse=True), x)
     True
     """
+    if out is None and axis == -1 and norm is None and type(x) is np.ndarray and x.ndim:
+        # Repeated single-symbol calls: a prepared runner per configuration
+        # (see FftPlan) skips the argument normalisation below.
+        run = _quick_runners.get((_kernel.active(), x.shape[-1], x.dtype, inverse))
+        if run is not None:
+            return run(x)
     if type(x) is not np.ndarray:
         x = np.asarray(x)
     dtype = _COMPLEX_OF.get(x.dtype) or _result_dtype(x.dtype)
@@ -157,8 +163,19 @@ def fft(x, axis=-1, *, inverse=False, norm=None, out=None):
         # The kernel allows exact in-place use only; any other overlap
         # would read elements already overwritten, so work on a copy.
         xv = xv.copy()
-    _kernel.active().fft(xv, rv, bool(inverse), scale)
+    impl = _kernel.active()
+    impl.fft(xv, rv, bool(inverse), scale)
+    if out is None and axis == -1 and norm is None and x.dtype is dtype \
+            and type(inverse) is bool and len(_quick_runners) < _QUICK_RUNNERS_MAX:
+        _quick_runners[impl, n, dtype, inverse] = impl.fft_runner(n, dtype, inverse, scale)
     return result
+
+
+#: Prepared runners of :func:`fft`'s common case (last axis, default
+#: scaling, complex input, no ``out``), by (backend, n, dtype, inverse).
+#: Bounded, so that sweeping over many sizes cannot grow it without end.
+_quick_runners: dict = {}
+_QUICK_RUNNERS_MAX = 64
 
 
 def _same_elements(a: np.ndarray, b: np.ndarray) -> bool:
@@ -320,13 +337,12 @@ class FftPlan:
                 or x.shape[-1] != self._n:
             x = self._conform(x)
         if out is None:
-            out = np.empty(x.shape, dtype)
-        else:
-            _check_out(out, x.shape, dtype)
-            if out is not x and np.may_share_memory(x, out) and not _same_elements(x, out):
-                x = x.copy()
-        self._run(x, out)
-        return out
+            # The runner allocates: its shortest path (single symbols).
+            return self._run(x)
+        _check_out(out, x.shape, dtype)
+        if out is not x and np.may_share_memory(x, out) and not _same_elements(x, out):
+            x = x.copy()
+        return self._run(x, out)
 
     def _conform(self, x) -> np.ndarray:
         """Checks and conversions of the slow path of :meth:`__call__`."""

@@ -19,9 +19,11 @@ Each implementation module provides:
     itself (in place) or does not overlap it.  The public wrapper
     (:func:`tonebank.fft`) validates all of this before the call.
 ``fft_runner(n, dtype, inverse, scale) -> run``
-    Prepare ``run(x, out)``, which does what ``fft(x, out, inverse, scale)``
-    does for arrays of that last-axis length ``n`` and dtype, with the
-    per-call work (plan look-up, constants) done once.
+    Prepare ``run(x, out=None) -> out``, which does what ``fft(x, out,
+    inverse, scale)`` does for arrays of that last-axis length ``n`` and
+    dtype, with the per-call work (plan look-up, constants) done once.
+    With ``out=None`` it allocates a C-contiguous output itself, which
+    lets the C runner take its shortest path for single symbols.
 ``ofdm_runner(n, dtype, bins_a, bins_b) -> runner``
     Fused OFDM symbols on an ``n``-point transform: values of table "a"
     go to FFT positions ``bins_a`` and of table "b" to ``bins_b``

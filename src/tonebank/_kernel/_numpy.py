@@ -25,9 +25,15 @@ def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
 
 
 def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
-    """Return ``run(x, out)`` doing :func:`fft` for one prepared configuration."""
-    def run(x, out):
+    """Return ``run(x, out=None) -> out`` doing :func:`fft` for one configuration.
+
+    With ``out=None`` the runner allocates the output.
+    """
+    def run(x, out=None):
+        if out is None:
+            out = np.empty(x.shape, dtype)
         fft(x, out, inverse, scale)
+        return out
     return run
 
 
