@@ -46,10 +46,11 @@ const char *tbpy_compiler(void);
 const char *tbpy_cflags(void);
 """
 
-#: A binding-side shortcut for single-symbol transforms (not part of the
-#: portable kernel): the constant arguments of a prepared transform live
-#: in a small struct, so a call from Python passes 5 arguments instead of
-#: 11.  cffi's cost per argument is a sizeable part of a 64-point call.
+#: Binding-side shortcuts for single-symbol calls (not part of the
+#: portable kernel): the constant arguments of a prepared transform or
+#: OFDM signal live in a small struct, so a call from Python passes 4 or 5
+#: arguments instead of 11 to 15.  cffi's cost per argument is a sizeable
+#: part of a 64-point call.
 _QUICK_FFT_CDEF = """
 typedef struct {
     const tb_fft_plan *plan;
@@ -60,6 +61,20 @@ typedef struct {
 } tbpy_fft_call;
 int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
                   void *work);
+
+typedef struct {
+    const tb_ofdm_plan *plan;
+    int single;
+    size_t n_symbols;
+    const size_t *cp;
+    const void *b;
+    size_t n_a;
+    size_t n_b;
+    double scale;
+} tbpy_ofdm_call;
+int tbpy_ofdm_synthesize1(const tbpy_ofdm_call *call, void *a, void *out, void *work);
+int tbpy_ofdm_analyze1(const tbpy_ofdm_call *call, void *in, void *a, void *b,
+                       void *work);
 """
 
 _QUICK_FFT_SOURCE = """
@@ -81,6 +96,45 @@ int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
                                   n, 1, (float *)out, n, 1, (float)call->scale, work);
     return tb_fft_execute_f64(call->plan, call->direction, batch, (const double *)in,
                               n, 1, (double *)out, n, 1, call->scale, work);
+}
+
+/* One signal of n_symbols OFDM symbols with the prefixes, the pilot
+ * table b (may be NULL) and the scale bound in the struct. */
+typedef struct {
+    const tb_ofdm_plan *plan;
+    int single;
+    size_t n_symbols;
+    const size_t *cp;
+    const void *b;
+    size_t n_a;
+    size_t n_b;
+    double scale;
+} tbpy_ofdm_call;
+
+int tbpy_ofdm_synthesize1(const tbpy_ofdm_call *call, void *a, void *out, void *work)
+{
+    ptrdiff_t na = (ptrdiff_t)call->n_a, nb = (ptrdiff_t)call->n_b;
+    if (call->single)
+        return tb_ofdm_synthesize_f32(call->plan, 1, call->n_symbols, call->cp,
+                                      (const float *)a, 0, na, (const float *)call->b, 0,
+                                      nb, (float *)out, 0, (float)call->scale, work);
+    return tb_ofdm_synthesize_f64(call->plan, 1, call->n_symbols, call->cp,
+                                  (const double *)a, 0, na, (const double *)call->b, 0,
+                                  nb, (double *)out, 0, call->scale, work);
+}
+
+/* b may be NULL (pilots not wanted). */
+int tbpy_ofdm_analyze1(const tbpy_ofdm_call *call, void *in, void *a, void *b,
+                       void *work)
+{
+    ptrdiff_t na = (ptrdiff_t)call->n_a, nb = (ptrdiff_t)call->n_b;
+    if (call->single)
+        return tb_ofdm_analyze_f32(call->plan, 1, call->n_symbols, call->cp,
+                                   (const float *)in, 0, (float *)a, 0, na, (float *)b, 0,
+                                   nb, (float)call->scale, work);
+    return tb_ofdm_analyze_f64(call->plan, 1, call->n_symbols, call->cp,
+                               (const double *)in, 0, (double *)a, 0, na, (double *)b, 0,
+                               nb, call->scale, work);
 }
 """
 

@@ -133,6 +133,7 @@ def _pointer(arr: np.ndarray, plan: _Plan):
 
 _from_buffer = ffi.from_buffer
 _SIZE_ARRAY = ffi.typeof("size_t[]")
+_FLOAT_ARRAY = ffi.typeof("float[]")
 _FORWARD, _INVERSE = lib.TB_FORWARD, lib.TB_INVERSE
 
 
@@ -318,25 +319,26 @@ class _OfdmRunner:
         if status:
             _check(status, "OFDM analysis")
 
-
     def synthesizer(self, n_symbols, cp, b, scale):
         """``run(a, out)`` for one signal with everything but the data fixed
         (see :meth:`._numpy._OfdmRunner.synthesizer`)."""
         if self._plan is None:
             return self._fallback.synthesizer(n_symbols, cp, b, scale)
         plan = self._plan
-        handle, call, atype = plan.handle, plan.synth, plan.array_type
-        n_a, need = plan.n_a, plan.work_nbytes
-        cp_ptr = _from_buffer(_SIZE_ARRAY, cp)
-        if plan.n_b:
-            b_ptr, n_b = _from_buffer(atype, b), b.shape[-1]
-        else:
-            b_ptr, n_b = ffi.NULL, 0
+        atype, need = plan.array_type, plan.work_nbytes
+        # Everything but the data is bound in a binding-side struct (see
+        # tonebank._build_kernel); `keep` holds what it points into.
+        keep = (plan, _from_buffer(_SIZE_ARRAY, cp),
+                _from_buffer(atype, b) if plan.n_b else ffi.NULL)
+        call = ffi.new("tbpy_ofdm_call *", {
+            "plan": plan.handle, "single": atype is _FLOAT_ARRAY, "n_symbols": n_symbols,
+            "cp": keep[1], "b": keep[2], "n_a": plan.n_a,
+            "n_b": b.shape[-1] if plan.n_b else 0, "scale": scale})
+        synthesize1, from_buffer = lib.tbpy_ofdm_synthesize1, _from_buffer
 
-        def run(a, out, _keep=(cp, b)):
-            status = call(handle, 1, n_symbols, cp_ptr, _from_buffer(atype, a), 0, n_a,
-                          b_ptr, 0, n_b, _from_buffer(atype, out), 0, scale,
-                          _thread.buf if _thread.nbytes >= need else _workspace(need))
+        def run(a, out, _keep=(keep, cp, b)):
+            status = synthesize1(call, from_buffer(a), from_buffer(out),
+                                 _thread.buf if _thread.nbytes >= need else _workspace(need))
             if status:
                 _check(status, "OFDM synthesis")
         return run
@@ -346,16 +348,18 @@ class _OfdmRunner:
         if self._plan is None:
             return self._fallback.analyzer(n_symbols, cp, scale)
         plan = self._plan
-        handle, call, atype = plan.handle, plan.analyze, plan.array_type
-        n_a, n_b, need = plan.n_a, plan.n_b, plan.work_nbytes
-        cp_ptr = _from_buffer(_SIZE_ARRAY, cp)
-        null = ffi.NULL
+        atype, need = plan.array_type, plan.work_nbytes
+        keep = (plan, _from_buffer(_SIZE_ARRAY, cp))
+        call = ffi.new("tbpy_ofdm_call *", {
+            "plan": plan.handle, "single": atype is _FLOAT_ARRAY, "n_symbols": n_symbols,
+            "cp": keep[1], "b": ffi.NULL, "n_a": plan.n_a, "n_b": plan.n_b,
+            "scale": scale})
+        analyze1, from_buffer, null = lib.tbpy_ofdm_analyze1, _from_buffer, ffi.NULL
 
-        def run(x, a, b, _keep=cp):
-            status = call(handle, 1, n_symbols, cp_ptr, _from_buffer(atype, x), 0,
-                          _from_buffer(atype, a), 0, n_a,
-                          null if b is None else _from_buffer(atype, b), 0, n_b, scale,
-                          _thread.buf if _thread.nbytes >= need else _workspace(need))
+        def run(x, a, b, _keep=(keep, cp)):
+            status = analyze1(call, from_buffer(x), from_buffer(a),
+                              null if b is None else from_buffer(b),
+                              _thread.buf if _thread.nbytes >= need else _workspace(need))
             if status:
                 _check(status, "OFDM analysis")
         return run
