@@ -395,3 +395,19 @@ def test_repeated_calls_take_the_prepared_path_with_the_same_results(dtype):
     for _ in range(2):
         _assert_close(tonebank.fft(base[1], inverse=True),
                       np.fft.ifft(base[1].astype(np.complex128)), dtype)
+
+
+def test_plan_cache_is_bounded(backend):
+    # Sweeping over many sizes must not keep a plan for every one of them;
+    # results stay right after older plans are dropped.
+    if backend != "c":
+        pytest.skip("the plan cache belongs to the C backend")
+    from tonebank._kernel import _c
+    sizes = [2 ** a * 3 ** b * 5 ** c for a in range(6) for b in range(4) for c in range(3)]
+    assert len(sizes) > _c._PLANS_MAX / 2
+    rng = np.random.default_rng(5)
+    for dtype in (np.complex64, np.complex128):
+        for n in sizes:
+            x = _signal(rng, (2, n), dtype)
+            _assert_close(tonebank.fft(x, norm="ortho"), _reference(x, norm="ortho"), dtype)
+    assert len(_c._plans) <= _c._PLANS_MAX

@@ -25,6 +25,10 @@ fallback_sizes: set[int] = set()
 
 _plans: dict = {}          # (n, dtype char) -> _Plan, or None if unsupported
 _plans_lock = threading.Lock()
+#: Plans kept for reuse.  A plan costs about 16 n bytes; past this many
+#: sizes the oldest is dropped (a sweep over thousands of sizes must not
+#: hold them all).  Runners and FftPlan objects keep their own plan alive.
+_PLANS_MAX = 128
 
 
 class _ThreadWorkspace(threading.local):
@@ -76,6 +80,8 @@ def _new_plan(key):
     """Create (or find) the plan for ``key = (n, dtype char)``; None if unsupported."""
     with _plans_lock:
         if key not in _plans:
+            while len(_plans) >= _PLANS_MAX:
+                del _plans[next(iter(_plans))]
             n = key[0]
             if lib.tb_fft_size_supported(n):
                 _plans[key] = _Plan(n, key[1] == "F")
