@@ -241,3 +241,15 @@ def test_symbol_by_symbol_modulate_follows_the_pilot_sequence():
     np.testing.assert_allclose(np.concatenate(parts), whole, rtol=0, atol=1e-13)
     back = [ofdm.demodulate(whole[s * 80:(s + 1) * 80], start_symbol=s)[1] for s in range(130)]
     np.testing.assert_allclose(np.concatenate(back), plan.pilots_for(130), atol=1e-12)
+
+
+def test_nan_propagates_without_warning_on_both_backends():
+    # IEEE propagation, and no RuntimeWarning from either backend (pytest
+    # turns warnings into errors), so the backends behave alike.
+    ofdm = tonebank.CpOfdm(tonebank.CarrierPlan.centered(64, 52, cp_length=16))
+    grid = np.ones((2, 64), complex)
+    grid[0, 3] = np.nan
+    x = ofdm.synthesize(grid)
+    assert np.all(np.isnan(x[:80])) and np.all(np.isfinite(x[80:]))
+    back = ofdm.analyze(x)
+    assert np.all(np.isnan(back[0])) and np.allclose(back[1], 1)

@@ -14,14 +14,17 @@ NAME = "numpy"
 
 def fft(x: np.ndarray, out: np.ndarray, inverse: bool, scale: float) -> None:
     """``out[...] = scale * DFT(x)`` along the last axis (see the interface)."""
-    if inverse:
-        # norm="forward" leaves the inverse transform unscaled.
-        y = np.fft.ifft(x, axis=-1, norm="forward")
-    else:
-        y = np.fft.fft(x, axis=-1, norm="backward")
-    # numpy < 2 computes in complex128 only; the cast keeps the caller's
-    # precision, which is the interface's promise.
-    np.multiply(y, scale, out=out, casting="same_kind")
+    # The C kernel propagates NaN and inf silently, as IEEE arithmetic does;
+    # numpy's transform would also warn, so the backends would differ.
+    with np.errstate(invalid="ignore", over="ignore"):
+        if inverse:
+            # norm="forward" leaves the inverse transform unscaled.
+            y = np.fft.ifft(x, axis=-1, norm="forward")
+        else:
+            y = np.fft.fft(x, axis=-1, norm="backward")
+        # numpy < 2 computes in complex128 only; the cast keeps the caller's
+        # precision, which is the interface's promise.
+        np.multiply(y, scale, out=out, casting="same_kind")
 
 
 def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
@@ -94,8 +97,9 @@ class _OfdmRunner:
         grid[..., self._bins_a] = a
         if b is not None and len(self._bins_b):
             grid[..., self._bins_b] = b
-        body = np.fft.ifft(grid, axis=-1, norm="forward")
-        body *= scale
+        with np.errstate(invalid="ignore", over="ignore"):   # as in fft()
+            body = np.fft.ifft(grid, axis=-1, norm="forward")
+            body *= scale
         gather, _ = self._layout(cp)
         out[...] = body.reshape(batch, -1)[:, gather]
 
@@ -104,11 +108,11 @@ class _OfdmRunner:
         if batch * n_symbols == 0:
             return
         _, bodies = self._layout(cp)
-        spec = np.fft.fft(x[:, bodies].reshape(batch, n_symbols, self._n), axis=-1)
-        np.multiply(spec[..., self._bins_a], scale, out=a, casting="same_kind")
-        if b is not None and len(self._bins_b):
-            np.multiply(spec[..., self._bins_b], scale, out=b, casting="same_kind")
-
+        with np.errstate(invalid="ignore", over="ignore"):   # as in fft()
+            spec = np.fft.fft(x[:, bodies].reshape(batch, n_symbols, self._n), axis=-1)
+            np.multiply(spec[..., self._bins_a], scale, out=a, casting="same_kind")
+            if b is not None and len(self._bins_b):
+                np.multiply(spec[..., self._bins_b], scale, out=b, casting="same_kind")
 
     def synthesizer(self, n_symbols, cp, b, scale):
         """``run(a, out)``: :meth:`synthesize` for one signal of ``n_symbols``
