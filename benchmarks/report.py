@@ -470,6 +470,86 @@ def report(path: Path, stat: str = "median") -> str:
     return "\n".join(out)
 
 
+# -- FBMC/OQAM (test_06_fbmc.py) --------------------------------------------------
+
+#: FBMC speed targets (the FBMC/OQAM issue): the fused C kernel at least 3x
+#: faster than the numpy fallback at 140 symbols, and FBMC synthesis at
+#: most 2x the cost of CP-OFDM synthesis of the same plan (C backend).
+TARGET_FBMC_VS_NUMPY = 3.0
+TARGET_FBMC_VS_OFDM = 2.0
+FBMC_COLUMNS = (("fbmc_c", "FBMC C"), ("fbmc_numpy", "FBMC numpy"),
+                ("ofdm_c", "OFDM C"), ("ofdm_cp_c", "OFDM+CP C"))
+FBMC_DIRECTIONS = {"fbmc_tx": "tx", "fbmc_rx": "rx"}
+
+
+def load_fbmc(path: Path, stat: str = "median") -> dict:
+    """``rows[(kind, n, symbols)][impl]`` = seconds per call (FBMC file only)."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") not in FBMC_DIRECTIONS:
+            continue
+        try:
+            key = (info["kind"], int(info["n"]), int(info["symbols"]))
+            rows.setdefault(key, {})[str(info["impl"])] = float(bench["stats"][stat])
+        except (KeyError, TypeError, ValueError):
+            continue
+    return rows
+
+
+def fbmc_report(path: Path, stat: str = "median") -> str:
+    """The FBMC/OQAM table and its two targets, as text."""
+    rows = load_fbmc(path, stat)
+    head = ["", "FBMC/OQAM (test_06_fbmc.py, complex128, overlap K = 4)",
+            "------------------------------------------------------"]
+    if not rows:
+        return "\n".join([*head, "(no FBMC benchmarks in this run)"])
+    header = ["dir", "n", "symbols", *(f"{h} us" for _, h in FBMC_COLUMNS),
+              "numpy/C", "FBMC/OFDM", "FBMC/OFDM+CP"]
+    out, met_speed, met_ofdm = [], [], []
+    order = lambda key: (list(FBMC_DIRECTIONS).index(key[0]), key[1], -key[2])  # noqa: E731
+    for key in sorted(rows, key=order):
+        kind, n, symbols = key
+        t = rows[key]
+        speed = ratio(t.get("fbmc_numpy"), t.get("fbmc_c"))
+        versus = ratio(t.get("fbmc_c"), t.get("ofdm_c"))
+        out.append([FBMC_DIRECTIONS[kind], str(n), str(symbols),
+                    *(fmt_us(t.get(impl)) for impl, _ in FBMC_COLUMNS),
+                    fmt_ratio(speed), fmt_ratio(versus),
+                    fmt_ratio(ratio(t.get("fbmc_c"), t.get("ofdm_cp_c")))])
+        if symbols == OFDM_BATCH_SYMBOLS and speed is not None:
+            met_speed.append((speed >= TARGET_FBMC_VS_NUMPY, f"{kind} n={n}: {speed:.2f}"))
+        if symbols == OFDM_BATCH_SYMBOLS and kind == "fbmc_tx" and versus is not None:
+            met_ofdm.append((versus <= TARGET_FBMC_VS_OFDM, f"n={n}: {versus:.2f}"))
+
+    def verdict(title, cells):
+        if not cells:
+            return f"- {title}\n    n/a (implementation missing from this run)"
+        missed = [c for ok, c in cells if not ok]
+        return (f"- {title}\n    {'MET' if not missed else 'MISSED'}: met in "
+                f"{len(cells) - len(missed)} of {len(cells)} cells"
+                + "".join(f"\n      missed: {m}" for m in missed))
+
+    return "\n".join([
+        *head,
+        f"{stat.capitalize()} time per call in microseconds; one call carries `symbols`",
+        "symbols of n subcarriers (centred, ~80 % used).  FBMC C / numpy =",
+        "FbmcOqam.synthesize or .analyze on the C kernel / the numpy backend; OFDM C =",
+        "CpOfdm on the same plan (no prefix); OFDM+CP C = CpOfdm with a prefix of n/4.",
+        "numpy/C = the fused kernel's speed-up; FBMC/OFDM = FBMC C time / OFDM C time.",
+        "",
+        table(out, header),
+        "",
+        verdict(f"fused C at least {TARGET_FBMC_VS_NUMPY:g}x faster than the numpy fallback "
+                f"(numpy/C >= {TARGET_FBMC_VS_NUMPY:g}, {OFDM_BATCH_SYMBOLS} symbols, both "
+                "directions)", met_speed),
+        verdict(f"FBMC synthesis at most {TARGET_FBMC_VS_OFDM:g}x CP-OFDM synthesis of the "
+                f"same plan (FBMC/OFDM <= {TARGET_FBMC_VS_OFDM:g}, tx, "
+                f"{OFDM_BATCH_SYMBOLS} symbols)", met_ofdm),
+    ])
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -482,6 +562,7 @@ def main(argv=None) -> int:
               file=sys.stderr)
         return 2
     print(report(args.json, args.stat))
+    print(fbmc_report(args.json, args.stat))  # FBMC/OQAM section
     return 0
 
 

@@ -216,6 +216,79 @@ int tb_ofdm_analyze_f64(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols
                         double *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
                         double scale, void *work);
 
+/* ---- FBMC/OQAM: polyphase network + one FFT per symbol, fused ---------- */
+
+/* Opaque, immutable plan of the FBMC/OQAM operations: m subcarriers (even,
+ * an FFT size tb_fft_size_supported accepts), overlap factor K and a real
+ * prototype filter of K*m taps, with the bin phases c[k] = j^k (-1)^(kK)
+ * (k the natural FFT position).
+ *
+ * Signal model.  A complex grid value q[k] of symbol s is sent as two
+ * real half-symbols: n = 2s carries Re q[k], n = 2s + 1 carries Im q[k],
+ * half-symbol n starting n*m/2 samples into the burst:
+ *
+ *     x[t] = sum_n sum_k a[k,n] j^(k+n) h[t - n m/2]
+ *                       exp(2 pi i k (t - n m/2 - K m/2) / m)
+ *
+ * with n counted from symbol `start_symbol` of the stream (only its
+ * parity matters).  A burst of S symbols is S*m + tail samples long,
+ * tail = K*m - m/2 (tb_fbmc_tail): the ringing of the last symbol. */
+typedef struct tb_fbmc_plan tb_fbmc_plan;
+
+/* Create a plan.  prototype: K*m taps (double whatever the precision;
+ * converted once).  Errors: TB_ERR_NULL (plan_out or prototype NULL),
+ * TB_ERR_PRECISION, TB_ERR_SIZE (m odd, < 2 or not a supported FFT
+ * size), TB_ERR_ARG (overlap 0 or K*m > TB_FFT_MAX_SIZE), TB_ERR_NOMEM. */
+int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *prototype,
+                        tb_fbmc_plan **plan_out);
+
+/* Release a plan; NULL is accepted and ignored. */
+void tb_fbmc_plan_destroy(tb_fbmc_plan *plan);
+
+/* Bytes of caller-owned workspace the execute calls need (aligned for
+ * double, one per concurrent caller; 0 for a NULL plan). */
+size_t tb_fbmc_workspace_size(const tb_fbmc_plan *plan);
+
+/* K*m - m/2: samples a burst rings on after its last symbol (0 for NULL). */
+size_t tb_fbmc_tail(const tb_fbmc_plan *plan);
+
+/* Synthesize n_symbols symbols for each of `batch` signals.  Symbol s of
+ * signal q reads m complex values at grid + 2 * (q * grid_batch_stride +
+ * s * m); signal q's n_symbols*m + tail complex samples are all written
+ * from out + 2 * q * out_batch_stride.  Cost per symbol: one m-point
+ * inverse FFT (both half-symbols share it) and 2 K m real-by-complex
+ * multiply-adds.  Errors (nothing written): TB_ERR_NULL (plan, grid,
+ * out, work), TB_ERR_PRECISION, TB_ERR_ARG (misaligned pointers,
+ * out_batch_stride 0 with batch > 1).  grid must not overlap out. */
+int tb_fbmc_synthesize_f32(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                           size_t start_symbol, const float *grid,
+                           ptrdiff_t grid_batch_stride, float *out,
+                           ptrdiff_t out_batch_stride, void *work);
+int tb_fbmc_synthesize_f64(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                           size_t start_symbol, const double *grid,
+                           ptrdiff_t grid_batch_stride, double *out,
+                           ptrdiff_t out_batch_stride, void *work);
+
+/* Analyze n_symbols symbols of each of `batch` signals (n_symbols*m +
+ * tail samples from in + 2 * q * in_batch_stride).  Half-symbol n's
+ * matched-filter output is d[k,n] = conj(j^(k+n)) sum_t x[t + n m/2]
+ * h[t] exp(-2 pi i k (t - K m/2) / m); its real part is the decision.
+ *   separate == 0: writes m values per symbol, Re d[k,2s] + j Re d[k,2s+1]
+ *                  (one FFT per symbol), at out + 2 * (q * out_batch_stride
+ *                  + s * m);
+ *   separate == 1: writes 2 m values per symbol, d[., 2s] then d[., 2s+1]
+ *                  (two FFTs), at out + 2 * (q * out_batch_stride + 2 s m),
+ *                  for a caller that equalises before taking the real part.
+ * Errors (nothing written): TB_ERR_NULL, TB_ERR_PRECISION, TB_ERR_ARG
+ * (separate not 0 or 1, misaligned pointers, out_batch_stride 0 with
+ * batch > 1).  in must not overlap out. */
+int tb_fbmc_analyze_f32(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                        size_t start_symbol, const float *in, ptrdiff_t in_batch_stride,
+                        int separate, float *out, ptrdiff_t out_batch_stride, void *work);
+int tb_fbmc_analyze_f64(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                        size_t start_symbol, const double *in, ptrdiff_t in_batch_stride,
+                        int separate, double *out, ptrdiff_t out_batch_stride, void *work);
+
 /* ---- end cffi declarations ---- */
 
 #ifdef __cplusplus

@@ -18,6 +18,8 @@ from .constellation import Constellation
 from .plan import CarrierPlan
 from .transforms import FftPlan, fft
 from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
+# FBMC/OQAM (waveforms/fbmc.py)
+from .waveforms import FbmcOqam, phydyas_coefficients, phydyas_prototype
 
 __version__ = "0.1.0"
 
@@ -40,4 +42,8 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # FBMC/OQAM
+    "FbmcOqam",
+    "phydyas_coefficients",
+    "phydyas_prototype",
 ]

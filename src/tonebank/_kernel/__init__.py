@@ -34,6 +34,16 @@ Each implementation module provides:
     ``synthesizer(n_symbols, cp, b, scale)`` and ``analyzer(n_symbols,
     cp, scale)`` return prepared single-signal calls with those arguments
     bound.  Shapes and layouts: :class:`tonebank._kernel._numpy._OfdmRunner`.
+``fbmc_runner(m, overlap, dtype, prototype) -> runner``
+    FBMC/OQAM on ``m`` subcarriers (even) with a real prototype of
+    ``overlap * m`` taps (``_numpy_fbmc.py`` / ``_c_fbmc.py``, C kernel
+    ``csrc/tb_fbmc.c``).  The runner's ``synthesize(grid, start_symbol,
+    out)`` sends each complex value of the (B, S, m) grid as two staggered
+    real half-symbols and writes (B, S m + tail) samples, tail =
+    ``overlap * m - m/2``; ``analyze(x, start_symbol, out, separate)``
+    writes the real decisions packed as (B, S, m) complex values, or with
+    ``separate`` the (B, S, 2, m) complex matched-filter outputs.  Shapes
+    and the signal model: :class:`tonebank._kernel._numpy_fbmc._FbmcRunner`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 

@@ -386,3 +386,7 @@ def info() -> dict:
         "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
         "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
     }
+
+
+# ---- FBMC/OQAM (cffi wrapper in its own module) --------------------------------
+from ._c_fbmc import fbmc_runner  # noqa: E402,F401

@@ -146,3 +146,7 @@ def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray)
 def info() -> dict:
     """Facts about this backend for :func:`tonebank.backend_info`."""
     return {"numpy_version": np.__version__}
+
+
+# ---- FBMC/OQAM (numpy twin in its own module) ----------------------------------
+from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401

@@ -8,5 +8,7 @@ streaming forms that process arbitrary chunks.
 
 from .base import StreamAnalyzer, StreamSynthesizer, Waveform
 from .cp_ofdm import CpOfdm
+from .fbmc import FbmcOqam, phydyas_coefficients, phydyas_prototype
 
-__all__ = ["CpOfdm", "StreamAnalyzer", "StreamSynthesizer", "Waveform"]
+__all__ = ["CpOfdm", "FbmcOqam", "StreamAnalyzer", "StreamSynthesizer", "Waveform",
+           "phydyas_coefficients", "phydyas_prototype"]

@@ -1,0 +1,332 @@
+/*
+ * tb_fbmc.c -- FBMC/OQAM synthesis and analysis: a polyphase network
+ * around one FFT per symbol, fused.
+ *
+ * M subcarriers, overlap factor K, a real prototype h of K*M taps (given
+ * at plan creation, unit energy for the Python binding).  A complex grid
+ * value q[k] of symbol s travels as two real half-symbols (Re q, then
+ * Im q M/2 samples later); half-symbol n is the pulse
+ *
+ *     sum_k a[k,n] j^(k+n) h[t - nM/2] exp(2 pi i k (t - nM/2 - KM/2) / M).
+ *
+ * With the bin phases c[k] = j^k (-1)^(kK) (a table in the plan) both
+ * half-symbols of a symbol come out of ONE inverse FFT, z = IDFT(q c):
+ * since conj(c[k]) = (-1)^k c[k], each real-input transform x obeys
+ * conj(x[-l]) = x[l + M/2], so with w[l] = conj(z[(M/2 - l) mod M])
+ *
+ *     first half-symbol  (Re q):  x0 = (z + w) / 2
+ *     second half-symbol (Im q):  j x1 = (z - w) / 2   (j^n folded in)
+ *
+ * and the sign (-1)^s of j^(2s) too.  The polyphase network is then an
+ * overlap-add of the periodically extended x0, x1 times h, straight into
+ * the caller's output, while the symbol is hot in the cache:
+ *
+ *   grid row s --*c--> W0 --IFFT--> Z --mirror--> A = x0, B = j x1 (signs in)
+ *
+ *   out:  |<------------- K M ------------->|
+ *         [sM ...... A*h (K periods of A) ..]
+ *               [sM+M/2 .. B*h (K periods of B) ..]
+ *
+ * Analysis runs the other way: each half-symbol's K*M samples are folded
+ * with h into M (v[p] = sum_i h[p+iM] y[p+iM], the polyphase network),
+ * and the two real decisions of a symbol again share one forward FFT:
+ *
+ *     t[p] = (v0[p] + conj(v0[M/2-p]) + v1[p] - conj(v1[M/2-p])) / 2
+ *     q_hat[k] = (-1)^s conj(c[k]) DFT(t)[k] = a0 + j a1
+ *
+ * In "separate" mode each half-symbol gets its own FFT and the complex
+ * matched-filter output conj(j^n c[k]) DFT(v)[k] is written (a caller
+ * that equalises must divide by the channel before taking the real part).
+ *
+ * When M is a multiple of 4, c[k] is a circular shift by M/4 (K even) or
+ * 3M/4 (K odd) samples, so synthesis transforms the grid row where it
+ * lies and reads z shifted, and analysis writes t shifted and lets the
+ * FFT's scale carry the sign: no multiplication passes over the bins.
+ *
+ * Plan memory: one allocation (plus the FFT plan it owns)
+ *     +---------------------+---------------------------+-----------------+
+ *     | struct tb_fbmc_plan | hh: 2 K M REALs           | c: 2 M REALs    |
+ *     +---------------------+---------------------------+-----------------+
+ * hh holds each tap twice (hh[2l] = hh[2l+1] = h[l]) so that the filter
+ * loops run over interleaved complex data as plain REAL loops that
+ * compilers vectorise; c holds the bin phases interleaved (re, im).
+ *
+ * Workspace (tb_fbmc_workspace_size): the FFT's workspace (W0, W1) then
+ * three rows of M interleaved complex values: Z, A, B.
+ */
+#include <stdlib.h>
+#include <string.h>
+
+#include "tonebank.h"
+#include "tb_internal.h"
+
+struct tb_fbmc_plan {
+    tb_fft_plan *fft;
+    size_t m, overlap;
+    size_t shift;   /* M % 4 == 0: c[k] = exp(2 pi i k shift / M), else 0 */
+    const void *hh; /* 2 K M REALs, inside this block */
+    const void *c;  /* 2 M REALs, inside this block */
+};
+
+static size_t tb_fbmc_real_size(int precision)
+{
+    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
+}
+
+/* Bytes of the struct, rounded up so the tables after it are aligned. */
+static size_t tb_fbmc_head(void)
+{
+    const size_t a = 2 * sizeof(double);
+    return (sizeof(struct tb_fbmc_plan) + a - 1) / a * a;
+}
+
+int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *prototype,
+                        tb_fbmc_plan **plan_out)
+{
+    tb_fbmc_plan *p;
+    unsigned char *base;
+    size_t rs, l, k, taps;
+    int st;
+
+    if (plan_out == NULL)
+        return TB_ERR_NULL;
+    *plan_out = NULL;
+    if (prototype == NULL)
+        return TB_ERR_NULL;
+    if (precision != TB_FLOAT32 && precision != TB_FLOAT64)
+        return TB_ERR_PRECISION;
+    if (m < 2 || m % 2 != 0 || !tb_fft_size_supported(m))
+        return TB_ERR_SIZE;
+    if (overlap < 1 || overlap > TB_FFT_MAX_SIZE / m)
+        return TB_ERR_ARG;
+    rs = tb_fbmc_real_size(precision);
+    taps = overlap * m;
+    base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs);
+    if (base == NULL)
+        return TB_ERR_NOMEM;
+    p = (tb_fbmc_plan *)(void *)base;
+    st = tb_fft_plan_create(m, precision, &p->fft);
+    if (st != TB_OK) {
+        free(base);
+        return st;
+    }
+    p->m = m;
+    p->overlap = overlap;
+    /* c[k] = j^k (K even) or (-j)^k (K odd) is exp(2 pi i k shift / M)
+     * with shift = M/4 or 3M/4: a circular shift in time, applied while
+     * the data are moved anyway instead of as a multiplication pass. */
+    p->shift = m % 4 != 0 ? 0 : (overlap % 2 == 0 ? m / 4 : 3 * m / 4);
+    p->hh = base + tb_fbmc_head();
+    p->c = base + tb_fbmc_head() + 2 * taps * rs;
+    for (l = 0; l < taps; l++) {
+        if (precision == TB_FLOAT32) {
+            float *hh = (float *)(void *)(base + tb_fbmc_head());
+            hh[2 * l] = hh[2 * l + 1] = (float)prototype[l];
+        } else {
+            double *hh = (double *)(void *)(base + tb_fbmc_head());
+            hh[2 * l] = hh[2 * l + 1] = prototype[l];
+        }
+    }
+    /* c[k] = j^k (-1)^(kK): exactly 1, j, -1 or -j. */
+    for (k = 0; k < m; k++) {
+        static const int re4[4] = {1, 0, -1, 0}, im4[4] = {0, 1, 0, -1};
+        const int sign = ((k * overlap) & 1) ? -1 : 1;
+        const int cr = sign * re4[k & 3], ci = sign * im4[k & 3];
+        if (precision == TB_FLOAT32) {
+            float *c = (float *)(void *)(base + tb_fbmc_head() + 2 * taps * rs);
+            c[2 * k] = (float)cr;
+            c[2 * k + 1] = (float)ci;
+        } else {
+            double *c = (double *)(void *)(base + tb_fbmc_head() + 2 * taps * rs);
+            c[2 * k] = (double)cr;
+            c[2 * k + 1] = (double)ci;
+        }
+    }
+    *plan_out = p;
+    return TB_OK;
+}
+
+void tb_fbmc_plan_destroy(tb_fbmc_plan *plan)
+{
+    if (plan == NULL)
+        return;
+    tb_fft_plan_destroy(plan->fft);
+    free(plan);
+}
+
+size_t tb_fbmc_workspace_size(const tb_fbmc_plan *plan)
+{
+    if (plan == NULL)
+        return 0;
+    return tb_fft_workspace_size(plan->fft) +
+           3 * 2 * plan->m * tb_fbmc_real_size(plan->fft->precision);
+}
+
+size_t tb_fbmc_tail(const tb_fbmc_plan *plan)
+{
+    if (plan == NULL)
+        return 0;
+    return plan->overlap * plan->m - plan->m / 2;
+}
+
+/* Checks shared by the execute calls; TB_OK when they may proceed. */
+static int tb_fbmc_check(const tb_fbmc_plan *plan, int precision, const void *in,
+                         const void *out, const void *work)
+{
+    const size_t rs = tb_fbmc_real_size(precision);
+    if (plan == NULL || in == NULL || out == NULL || work == NULL)
+        return TB_ERR_NULL;
+    if (plan->fft->precision != precision)
+        return TB_ERR_PRECISION;
+    if (((uintptr_t)in % rs) != 0 || ((uintptr_t)out % rs) != 0 ||
+        ((uintptr_t)work % sizeof(double)) != 0)
+        return TB_ERR_ARG;
+    return TB_OK;
+}
+
+/* ---- the operations, once per precision (and per ISA) -------------------- */
+
+/* As in tb_fft.c: on x86-64 with gcc or clang the loops are compiled a
+ * second time for AVX2 and the FFT plan's run-time choice picks the copy
+ * (no FMA and -ffp-contract=off: both copies give the same bits). */
+#if !defined(TB_NO_DISPATCH) && (defined(__x86_64__) || defined(_M_X64)) &&            \
+    (defined(__GNUC__) || defined(__clang__))
+#define TB_FBMC_AVX2 1
+#else
+#define TB_FBMC_AVX2 0
+#endif
+
+#define REAL float
+#define FFTROW tb_fft_core_row_f32
+#define SFX(name) name##_f32
+#include "tb_fbmc_impl.h"
+#undef SFX
+#if TB_FBMC_AVX2
+#if defined(__clang__)
+#pragma clang attribute push(__attribute__((target("avx2"))), apply_to = function)
+#else
+#pragma GCC push_options
+#pragma GCC target("avx2")
+#endif
+#define SFX(name) name##_f32_avx2
+#include "tb_fbmc_impl.h"
+#undef SFX
+#if defined(__clang__)
+#pragma clang attribute pop
+#else
+#pragma GCC pop_options
+#endif
+#endif
+#undef FFTROW
+#undef REAL
+
+#define REAL double
+#define FFTROW tb_fft_core_row_f64
+#define SFX(name) name##_f64
+#include "tb_fbmc_impl.h"
+#undef SFX
+#if TB_FBMC_AVX2
+#if defined(__clang__)
+#pragma clang attribute push(__attribute__((target("avx2"))), apply_to = function)
+#else
+#pragma GCC push_options
+#pragma GCC target("avx2")
+#endif
+#define SFX(name) name##_f64_avx2
+#include "tb_fbmc_impl.h"
+#undef SFX
+#if defined(__clang__)
+#pragma clang attribute pop
+#else
+#pragma GCC pop_options
+#endif
+#endif
+#undef FFTROW
+#undef REAL
+
+/* ---- public entry points: checks, then the chosen copy -------------------- */
+
+/* Which compiled copy runs: the one the FFT plan chose at creation. */
+#if TB_FBMC_AVX2
+#define TB_FBMC_USE_AVX2(plan) ((plan)->fft->avx2)
+#else
+#define TB_FBMC_USE_AVX2(plan) 0
+#define fbmc_synthesize_f32_avx2 fbmc_synthesize_f32
+#define fbmc_synthesize_f64_avx2 fbmc_synthesize_f64
+#define fbmc_analyze_f32_avx2 fbmc_analyze_f32
+#define fbmc_analyze_f64_avx2 fbmc_analyze_f64
+#endif
+
+int tb_fbmc_synthesize_f32(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                           size_t start_symbol, const float *grid,
+                           ptrdiff_t grid_batch_stride, float *out,
+                           ptrdiff_t out_batch_stride, void *work)
+{
+    int st = tb_fbmc_check(plan, TB_FLOAT32, grid, out, work);
+    if (st != TB_OK)
+        return st;
+    if (batch > 1 && out_batch_stride == 0)
+        return TB_ERR_ARG;
+    if (TB_FBMC_USE_AVX2(plan))
+        fbmc_synthesize_f32_avx2(plan, batch, n_symbols, start_symbol, grid,
+                                 grid_batch_stride, out, out_batch_stride, work);
+    else
+        fbmc_synthesize_f32(plan, batch, n_symbols, start_symbol, grid, grid_batch_stride,
+                            out, out_batch_stride, work);
+    return TB_OK;
+}
+
+int tb_fbmc_synthesize_f64(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                           size_t start_symbol, const double *grid,
+                           ptrdiff_t grid_batch_stride, double *out,
+                           ptrdiff_t out_batch_stride, void *work)
+{
+    int st = tb_fbmc_check(plan, TB_FLOAT64, grid, out, work);
+    if (st != TB_OK)
+        return st;
+    if (batch > 1 && out_batch_stride == 0)
+        return TB_ERR_ARG;
+    if (TB_FBMC_USE_AVX2(plan))
+        fbmc_synthesize_f64_avx2(plan, batch, n_symbols, start_symbol, grid,
+                                 grid_batch_stride, out, out_batch_stride, work);
+    else
+        fbmc_synthesize_f64(plan, batch, n_symbols, start_symbol, grid, grid_batch_stride,
+                            out, out_batch_stride, work);
+    return TB_OK;
+}
+
+int tb_fbmc_analyze_f32(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                        size_t start_symbol, const float *in, ptrdiff_t in_batch_stride,
+                        int separate, float *out, ptrdiff_t out_batch_stride, void *work)
+{
+    int st = tb_fbmc_check(plan, TB_FLOAT32, in, out, work);
+    if (st != TB_OK)
+        return st;
+    if ((separate != 0 && separate != 1) || (batch > 1 && out_batch_stride == 0))
+        return TB_ERR_ARG;
+    if (TB_FBMC_USE_AVX2(plan))
+        fbmc_analyze_f32_avx2(plan, batch, n_symbols, start_symbol, in, in_batch_stride,
+                              separate, out, out_batch_stride, work);
+    else
+        fbmc_analyze_f32(plan, batch, n_symbols, start_symbol, in, in_batch_stride,
+                         separate, out, out_batch_stride, work);
+    return TB_OK;
+}
+
+int tb_fbmc_analyze_f64(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols,
+                        size_t start_symbol, const double *in, ptrdiff_t in_batch_stride,
+                        int separate, double *out, ptrdiff_t out_batch_stride, void *work)
+{
+    int st = tb_fbmc_check(plan, TB_FLOAT64, in, out, work);
+    if (st != TB_OK)
+        return st;
+    if ((separate != 0 && separate != 1) || (batch > 1 && out_batch_stride == 0))
+        return TB_ERR_ARG;
+    if (TB_FBMC_USE_AVX2(plan))
+        fbmc_analyze_f64_avx2(plan, batch, n_symbols, start_symbol, in, in_batch_stride,
+                              separate, out, out_batch_stride, work);
+    else
+        fbmc_analyze_f64(plan, batch, n_symbols, start_symbol, in, in_batch_stride,
+                         separate, out, out_batch_stride, work);
+    return TB_OK;
+}
