@@ -19,6 +19,11 @@ from .plan import CarrierPlan
 from .transforms import FftPlan, fft
 from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
 
+# ---- channel estimation and equalisation (pilot patterns, estimators) ----
+from . import equalization, estimation
+from .pilots import PilotPattern
+# ---- end channel estimation and equalisation ----
+
 __version__ = "0.1.0"
 
 __all__ = [
@@ -40,4 +45,8 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # channel estimation and equalisation
+    "PilotPattern",
+    "equalization",
+    "estimation",
 ]
