@@ -550,6 +550,78 @@ def fbmc_report(path: Path, stat: str = "median") -> str:
     ])
 
 
+# ---- channel estimation (test_08_estimation.py) -------------------------------------
+# A section of its own: read the same JSON, keep the "estimation" kinds.
+
+ESTIMATION_KINDS = ("estimation", "estimation_prepare")
+ESTIMATION_IMPLS = (
+    ("lmmse_full", "LMMSE"),
+    ("lmmse_rank", "LMMSE r=64"),
+    ("ls_linear", "LS+linear"),
+    ("ls_spline", "LS+spline"),
+    ("dft", "DFT fit"),
+    ("numpy_solve", "numpy solve"),
+)
+
+
+def load_estimation(path: Path, stat: str = "median") -> dict:
+    """``rows[(kind, pattern, dtype)] = {"times": {impl: s}, "cells": n, "pilots": n}``."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") not in ESTIMATION_KINDS:
+            continue
+        try:
+            key = (info["kind"], str(info["pattern"]), str(info["dtype"]))
+            seconds = float(bench["stats"][stat])
+            cells = int(info["symbols"]) * int(info["used"])
+            pilots = int(info["pilot_cells"])
+        except (KeyError, TypeError, ValueError):
+            continue
+        row = rows.setdefault(key, {"times": {}, "cells": cells, "pilots": pilots})
+        row["times"][str(info["impl"])] = seconds
+    return rows
+
+
+def estimation_report(path: Path, stat: str = "median") -> str:
+    """The channel-estimation table: ms per call, Mcells/s, full/low-rank ratios."""
+    rows = load_estimation(path, stat)
+    head = ["", "Channel estimation (test_08_estimation.py, 1024 bins x 140 symbols)",
+            "-------------------------------------------------------------------"]
+    if not rows:
+        return "\n".join(head + ["(no estimation benchmarks in this run)"])
+    header = ["kind", "pattern", "dtype", "pilot cells",
+              *(f"{h} ms" for _, h in ESTIMATION_IMPLS),
+              "LMMSE Mcell/s", "full/r64", "solve/LMMSE"]
+    out = []
+    for key in sorted(rows):
+        kind, pattern, dtype = key
+        times, cells = rows[key]["times"], rows[key]["cells"]
+        full = times.get("lmmse_full")
+        out.append([
+            "estimate" if kind == "estimation" else "prepare", pattern, dtype,
+            str(rows[key]["pilots"]),
+            *("-" if times.get(i) is None else f"{times[i] * 1e3:.2f}"
+              for i, _ in ESTIMATION_IMPLS),
+            "-" if not full or kind != "estimation" else f"{cells / full / 1e6:.1f}",
+            fmt_ratio(ratio(full, times.get("lmmse_rank"))),
+            fmt_ratio(ratio(times.get("numpy_solve"), full)),
+        ])
+    notes = [
+        f"{stat.capitalize()} time per call in milliseconds.  estimate = a prepared",
+        "ChannelEstimator's estimate(grid) (filters made beforehand); prepare = building",
+        "the estimator and its filters plus the first call.  LMMSE Mcell/s = channel",
+        "cells estimated per second (symbols x used subcarriers / time).  full/r64 =",
+        "full-rank time / rank-64 time; solve/LMMSE = a numpy solve in every call /",
+        "the prepared LMMSE.  All numpy/BLAS (no C kernel op): BLAS threading on a",
+        "loaded machine moves these figures a lot (try OPENBLAS_NUM_THREADS=1).",
+        "",
+    ]
+    return "\n".join(head + notes + [table(out, header)])
+# ---- end channel estimation ----
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -562,6 +634,7 @@ def main(argv=None) -> int:
               file=sys.stderr)
         return 2
     print(report(args.json, args.stat))
+    print(estimation_report(args.json, args.stat))   # channel estimation section
     print(fbmc_report(args.json, args.stat))  # FBMC/OQAM section
     return 0
 

@@ -21,6 +21,11 @@ from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
 # FBMC/OQAM (waveforms/fbmc.py)
 from .waveforms import FbmcOqam, phydyas_coefficients, phydyas_prototype
 
+# ---- channel estimation and equalisation (pilot patterns, estimators) ----
+from . import equalization, estimation
+from .pilots import PilotPattern
+# ---- end channel estimation and equalisation ----
+
 __version__ = "0.1.0"
 
 __all__ = [
@@ -42,6 +47,10 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # channel estimation and equalisation
+    "PilotPattern",
+    "equalization",
+    "estimation",
     # FBMC/OQAM
     "FbmcOqam",
     "phydyas_coefficients",

@@ -114,6 +114,8 @@ class CarrierPlan:
         The prefix pattern.
     mean_cp_length : float
         Its average over one period.
+    pilot_pattern : tonebank.PilotPattern
+        The fixed pilots as a pilot pattern (for the channel estimators).
 
     Raises
     ------
@@ -141,7 +143,7 @@ class CarrierPlan:
     """
 
     __slots__ = ("_n_fft", "_data", "_pilots", "_pilot_values", "_cp", "_sample_rate",
-                 "_name", "_data_bins", "_pilot_bins", "_null_bins")
+                 "_name", "_data_bins", "_pilot_bins", "_null_bins", "_pattern")
 
     def __init__(self, n_fft: int, *, data, pilots=(), pilot_values=None,
                  cp_length: int | Sequence[int] = 0, sample_rate: float | None = None,
@@ -210,6 +212,7 @@ class CarrierPlan:
         used[self._data_bins] = True
         used[self._pilot_bins] = True
         self._null_bins = _readonly(np.flatnonzero(~used).astype(np.intp))
+        self._pattern = None
 
     # ---- alternative constructors -------------------------------------------
 
@@ -374,6 +377,22 @@ class CarrierPlan:
     def pilot_values(self) -> np.ndarray:
         """The pilot values, shape ``(period, n_pilots)``; symbol ``s`` uses row ``s % period``."""
         return self._pilot_values
+
+    @property
+    def pilot_pattern(self):
+        """The plan's fixed pilots as a :class:`~tonebank.PilotPattern` (a comb pattern).
+
+        The same as ``PilotPattern.from_plan(plan)``, made once per plan.
+        Its :meth:`~tonebank.PilotPattern.place` gives the same grid as
+        :meth:`place`, and the estimators of :mod:`tonebank.estimation`
+        take it to estimate the channel from the plan's pilots.
+        """
+        if self._pattern is None:
+            # Imported here: pilots.py builds on this module.
+            from .pilots import PilotPattern
+
+            self._pattern = PilotPattern.from_plan(self)
+        return self._pattern
 
     @property
     def cp_lengths(self) -> tuple[int, ...]:
