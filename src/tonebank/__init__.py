@@ -19,6 +19,9 @@ from .plan import CarrierPlan
 from .transforms import FftPlan, fft
 from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
 
+# -- peak reduction and amplifier models (papr branch) --
+from . import amplifier, papr
+
 __version__ = "0.1.0"
 
 __all__ = [
@@ -40,4 +43,7 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # -- papr branch --
+    "amplifier",
+    "papr",
 ]

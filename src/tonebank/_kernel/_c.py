@@ -349,3 +349,7 @@ def info() -> dict:
         "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
         "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
     }
+
+
+# -- selective mapping (tonebank.papr), in its own module ---------------------------
+from ._c_papr import slm_runner  # noqa: E402,F401

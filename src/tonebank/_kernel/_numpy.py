@@ -136,3 +136,7 @@ def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray)
 def info() -> dict:
     """Facts about this backend for :func:`tonebank.backend_info`."""
     return {"numpy_version": np.__version__}
+
+
+# -- selective mapping (tonebank.papr), in its own module ---------------------------
+from ._numpy_papr import slm_runner  # noqa: E402,F401
