@@ -622,6 +622,51 @@ def estimation_report(path: Path, stat: str = "median") -> str:
 # ---- end channel estimation ----
 
 
+# -- PAPR (test_09_papr.py) -------------------------------------------------------
+
+
+def papr_report(path: Path, stat: str = "median") -> str:
+    """The PAPR section: fused selective mapping and CCDF, C vs numpy.
+
+    Reads the benchmarks with ``extra_info["kind"]`` ``"papr_slm"`` or
+    ``"papr_ccdf"``; anything else in the file is ignored.  Returns an
+    empty string when the run has none.
+    """
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") not in ("papr_slm", "papr_ccdf"):
+            continue
+        try:
+            key = (str(info["kind"]), str(info["case"]))
+            rows.setdefault(key, {})[str(info["impl"])] = float(bench["stats"][stat])
+        except (KeyError, TypeError, ValueError):
+            continue
+    if not rows:
+        return ""
+    lines = ["PAPR (test_09_papr.py)", "----------------------",
+             f"{stat.capitalize()} time per call in milliseconds; C = the C backend (SLM: one "
+             "fused pass per",
+             "symbol), numpy = the numpy twin; ratio = numpy time / C time (above 1: C is "
+             "faster).", ""]
+    table_rows = []
+    for (kind, case), times in sorted(rows.items()):
+        c, npy = times.get("tb_c"), times.get("tb_numpy")
+        table_rows.append([kind.replace("papr_", ""), case,
+                           "-" if c is None else f"{c * 1e3:.1f}",
+                           "-" if npy is None else f"{npy * 1e3:.1f}",
+                           fmt_ratio(ratio(npy, c))])
+    lines.append(table(table_rows, ["op", "case", "C ms", "numpy ms", "numpy/C"]))
+    big = rows.get(("papr_slm", "U16-N1024-L4-S1000"), {})
+    r = ratio(big.get("tb_numpy"), big.get("tb_c"))
+    lines += ["", "PAPR targets", "",
+              "  SLM U=16 N=1024 L=4 S=1000, fused C vs numpy >= 3x: "
+              + ("not measured" if r is None else
+                 f"{r:.2f}x {'MET' if r >= 3.0 else 'NOT MET'}")]
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -634,6 +679,11 @@ def main(argv=None) -> int:
               file=sys.stderr)
         return 2
     print(report(args.json, args.stat))
+    # -- PAPR section (papr branch) --
+    papr = papr_report(args.json, args.stat)
+    if papr:
+        print()
+        print(papr)
     print(estimation_report(args.json, args.stat))   # channel estimation section
     print(fbmc_report(args.json, args.stat))  # FBMC/OQAM section
     return 0

@@ -289,6 +289,64 @@ int tb_fbmc_analyze_f64(const tb_fbmc_plan *plan, size_t batch, size_t n_symbols
                         size_t start_symbol, const double *in, ptrdiff_t in_batch_stride,
                         int separate, double *out, ptrdiff_t out_batch_stride, void *work);
 
+/* ---- Selective mapping (SLM): fused candidate search ------------------- */
+
+/* Opaque, immutable plan of the fused SLM candidate search: grids of n
+ * bins (natural FFT order: DC first, positive then negative
+ * frequencies), zero-padded to an m-point inverse DFT, m = L n for an
+ * integer oversampling L.  Bin k < n - n/2 goes to position k, bin
+ * k >= n - n/2 to position k + m - n.  Internally the m points are L
+ * polyphase branches of n-point FFTs (see tb_slm.c), so n must be a
+ * supported FFT size; m need not be. */
+typedef struct tb_slm_plan tb_slm_plan;
+
+/* Create a plan.  Errors: TB_ERR_NULL (plan_out), TB_ERR_PRECISION,
+ * TB_ERR_ARG (n == 0, m < n or m not a multiple of n), TB_ERR_SIZE (n
+ * unsupported, see tb_fft_size_supported, or m > TB_FFT_MAX_SIZE),
+ * TB_ERR_NOMEM. */
+int tb_slm_plan_create(size_t n, size_t m, int precision, tb_slm_plan **plan_out);
+
+/* Release a plan; NULL is accepted and ignored. */
+void tb_slm_plan_destroy(tb_slm_plan *plan);
+
+/* Bytes of caller-owned workspace tb_slm_select_* needs with this plan
+ * (the n-point FFT workspace, n complex values and two rows of m
+ * complex values; aligned for double, one per concurrent caller; 0 for
+ * a NULL plan). */
+size_t tb_slm_workspace_size(const tb_slm_plan *plan);
+
+/* For each of n_symbols grids, build the n_candidates candidates
+ *
+ *     c_u[j] = scale * sum_k grid[k] phase_u[k] exp(+2 pi i j pos(k) / m)
+ *
+ * one at a time, measure peak_u = max_j |c_u[j]|^2, and keep only the
+ * winner: candidate u replaces the best so far when peak_u < best *
+ * (1 - tie_margin) (compared in double), so ties and near-ties within
+ * the margin go to the lowest index.  Writes the winner's m samples to
+ * out + 2 * s * out_stride, its index to index[s] and its peak power to
+ * peak[s].  Grid s is read at grid + 2 * s * grid_stride and phase
+ * sequence u at phases + 2 * u * phase_stride (n contiguous complex
+ * values each; strides in complex elements, grid_stride and
+ * phase_stride may be 0).  Never more than two candidates are held, and
+ * a candidate is abandoned as soon as part of it reaches the bound (it
+ * cannot win); the choice is that of the full search.
+ *
+ * Errors (checked before anything is written): TB_ERR_NULL (plan, grid,
+ * phases, out, index, peak or work), TB_ERR_PRECISION, TB_ERR_ARG
+ * (n_candidates == 0, out_stride == 0 with n_symbols > 1, tie_margin
+ * not in [0, 1), misaligned pointers).  n_symbols == 0 is a no-op.
+ * Inputs must not overlap the outputs or the workspace. */
+int tb_slm_select_f32(const tb_slm_plan *plan, size_t n_symbols, size_t n_candidates,
+                      const float *grid, ptrdiff_t grid_stride, const float *phases,
+                      ptrdiff_t phase_stride, float *out, ptrdiff_t out_stride,
+                      size_t *index, double *peak, float scale, double tie_margin,
+                      void *work);
+int tb_slm_select_f64(const tb_slm_plan *plan, size_t n_symbols, size_t n_candidates,
+                      const double *grid, ptrdiff_t grid_stride, const double *phases,
+                      ptrdiff_t phase_stride, double *out, ptrdiff_t out_stride,
+                      size_t *index, double *peak, double scale, double tie_margin,
+                      void *work);
+
 /* ---- end cffi declarations ---- */
 
 #ifdef __cplusplus

@@ -26,6 +26,9 @@ from . import equalization, estimation
 from .pilots import PilotPattern
 # ---- end channel estimation and equalisation ----
 
+# -- peak reduction and amplifier models (papr branch) --
+from . import amplifier, papr
+
 __version__ = "0.1.0"
 
 __all__ = [
@@ -47,6 +50,9 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # -- papr branch --
+    "amplifier",
+    "papr",
     # channel estimation and equalisation
     "PilotPattern",
     "equalization",
