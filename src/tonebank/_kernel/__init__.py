@@ -32,16 +32,6 @@ Each implementation module provides:
     writes each symbol with its cyclic prefix; ``analyze(x, cp, a, b,
     scale)`` skips the prefixes, transforms and gathers.
     ``synthesizer(n_symbols, cp, b, scale)`` and ``analyzer(n_symbols,
-``slm_runner(n, m, dtype) -> runner``
-    Selective mapping (:mod:`tonebank.papr`): ``runner.select(grid,
-    phases, out, index, peak, scale, tie_margin)`` multiplies each grid
-    row (S, n) by each of U phase sequences (U, n), zero-pads it to an
-    ``m``-point inverse transform, measures the peak power and keeps only
-    the lowest-peak candidate (ties within ``tie_margin`` go to the lowest
-    index): ``out`` (S, m) its samples, ``index`` (S,) ``numpy.uintp`` and
-    ``peak`` (S,) float64.  The C kernel never holds more than two
-    candidates; the numpy twin materialises them in blocks.  Contract:
-    :class:`tonebank._kernel._numpy_papr._SlmRunner`.
     cp, scale)`` return prepared single-signal calls with those arguments
     bound.  Shapes and layouts: :class:`tonebank._kernel._numpy._OfdmRunner`.
 ``fbmc_runner(m, overlap, dtype, prototype) -> runner``
@@ -54,6 +44,16 @@ Each implementation module provides:
     writes the real decisions packed as (B, S, m) complex values, or with
     ``separate`` the (B, S, 2, m) complex matched-filter outputs.  Shapes
     and the signal model: :class:`tonebank._kernel._numpy_fbmc._FbmcRunner`.
+``slm_runner(n, m, dtype) -> runner``
+    Selective mapping (:mod:`tonebank.papr`): ``runner.select(grid,
+    phases, out, index, peak, scale, tie_margin)`` multiplies each grid
+    row (S, n) by each of U phase sequences (U, n), zero-pads it to an
+    ``m``-point inverse transform, measures the peak power and keeps only
+    the lowest-peak candidate (ties within ``tie_margin`` go to the lowest
+    index): ``out`` (S, m) its samples, ``index`` (S,) ``numpy.uintp`` and
+    ``peak`` (S,) float64.  The C kernel never holds more than two
+    candidates; the numpy twin materialises them in blocks.  Contract:
+    :class:`tonebank._kernel._numpy_papr._SlmRunner`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 

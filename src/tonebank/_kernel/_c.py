@@ -349,10 +349,6 @@ class _OfdmRunner:
                 _check(status, "OFDM synthesis")
         return run
 
-
-
-# -- selective mapping (tonebank.papr), in its own module ---------------------------
-from ._c_papr import slm_runner  # noqa: E402,F401
     def analyzer(self, n_symbols, cp, scale):
         """``run(x, a, b)`` for one signal (see :meth:`._numpy._OfdmRunner.analyzer`)."""
         if self._plan is None:
@@ -394,3 +390,6 @@ def info() -> dict:
 
 # ---- FBMC/OQAM (cffi wrapper in its own module) --------------------------------
 from ._c_fbmc import fbmc_runner  # noqa: E402,F401
+
+# ---- selective mapping (cffi wrapper in its own module) ---------------------------
+from ._c_papr import slm_runner  # noqa: E402,F401

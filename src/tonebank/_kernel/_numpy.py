@@ -137,10 +137,6 @@ class _OfdmRunner:
 def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray):
     """Prepared fused OFDM operations for FFT size *n* and complex *dtype*.
 
-
-# -- selective mapping (tonebank.papr), in its own module ---------------------------
-from ._numpy_papr import slm_runner  # noqa: E402,F401
-
     *bins_a* and *bins_b* are distinct FFT positions (natural order) of the
     two value tables.  See :class:`_OfdmRunner` for the contract.
     """
@@ -154,3 +150,6 @@ def info() -> dict:
 
 # ---- FBMC/OQAM (numpy twin in its own module) ----------------------------------
 from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401
+
+# ---- selective mapping (numpy twin in its own module) -----------------------------
+from ._numpy_papr import slm_runner  # noqa: E402,F401
