@@ -41,3 +41,8 @@ __all__ = [
     "set_backend",
     "use_backend",
 ]
+
+# ---- channel models (tapped delay lines, delay profiles) ----------------------
+from .channel import DelayProfile, TappedDelayLine  # noqa: E402
+
+__all__ += ["DelayProfile", "TappedDelayLine"]

@@ -349,3 +349,6 @@ def info() -> dict:
         "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
         "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
     }
+
+# Channel models (time-varying FIR): see _numpy_channel.py for the contract.
+from ._c_channel import channel_fir  # noqa: E402,F401

@@ -136,3 +136,6 @@ def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray)
 def info() -> dict:
     """Facts about this backend for :func:`tonebank.backend_info`."""
     return {"numpy_version": np.__version__}
+
+# Channel models (time-varying FIR): see _numpy_channel.py for the contract.
+from ._numpy_channel import channel_fir  # noqa: E402,F401
