@@ -346,6 +346,49 @@ int tb_slm_select_f64(const tb_slm_plan *plan, size_t n_symbols, size_t n_candid
                       ptrdiff_t phase_stride, double *out, ptrdiff_t out_stride,
                       size_t *index, double *peak, double scale, double tie_margin,
                       void *work);
+/* ---- channel models: time-varying FIR (tapped delay line) ------------- */
+
+/* Filter `batch` signals of n samples through a tapped delay line of
+ * n_lags lags whose taps vary linearly in time between knots:
+ *
+ *     y[i] = sum_{m=0}^{n_lags-1} c_m(i) x[i - m],
+ *     c_m(i) = A_m + t (B_m - A_m),   A = knot k, B = knot k + 1,
+ *     k = (offset + i) / interval,    t = ((offset + i) % interval) / interval
+ *
+ * (integer division; t is computed in double).  taps holds n_tap_sets
+ * sets of n_knots knots of n_lags complex taps, set-major then
+ * knot-major, contiguous: tap m of knot k of set s is complex element
+ * (s * n_knots + k) * n_lags + m.  Signal q uses set q % n_tap_sets.
+ * With n_knots == 1 the taps are constant and interval / offset are
+ * ignored; otherwise every sample needs knots k and k + 1, i.e.
+ * n_knots >= (offset + n - 1) / interval + 2.
+ *
+ * hist holds, per signal, the n_lags - 1 samples that preceded x[0]
+ * (oldest first; zeros for a fresh start); it may be NULL when
+ * n_lags == 1.  The kernel evaluates y[i] as sum_m A_m x[i - m] + t *
+ * sum_m (B_m - A_m) x[i - m] (equal to the definition up to rounding);
+ * each sum is accumulated over m = 0, 1, ... in that order,
+ * so a signal cut into chunks (passing the last n_lags - 1 input samples
+ * on as hist and offset advanced by the chunk length) gives bit-identical
+ * output.  The samples of signal q start at x + 2 * q * x_batch_stride
+ * (hist, y likewise); strides in complex elements; samples contiguous.
+ * No workspace; y must not overlap x, hist or taps.
+ *
+ * Errors (nothing written): TB_ERR_NULL (x, taps, y, or hist with
+ * n_lags > 1), TB_ERR_ARG (n_lags, n_tap_sets or n_knots is 0,
+ * interval is 0 with n_knots > 1, or too few knots). */
+int tb_channel_fir_f32(size_t batch, size_t n, size_t n_lags,
+                       const float *x, ptrdiff_t x_batch_stride,
+                       const float *hist, ptrdiff_t hist_batch_stride,
+                       const float *taps, size_t n_tap_sets, size_t n_knots,
+                       size_t interval, size_t offset,
+                       float *y, ptrdiff_t y_batch_stride);
+int tb_channel_fir_f64(size_t batch, size_t n, size_t n_lags,
+                       const double *x, ptrdiff_t x_batch_stride,
+                       const double *hist, ptrdiff_t hist_batch_stride,
+                       const double *taps, size_t n_tap_sets, size_t n_knots,
+                       size_t interval, size_t offset,
+                       double *y, ptrdiff_t y_batch_stride);
 
 /* ---- end cffi declarations ---- */
 

@@ -62,3 +62,8 @@ __all__ = [
     "phydyas_coefficients",
     "phydyas_prototype",
 ]
+
+# ---- channel models (tapped delay lines, delay profiles) ----------------------
+from .channel import DelayProfile, TappedDelayLine  # noqa: E402
+
+__all__ += ["DelayProfile", "TappedDelayLine"]

@@ -54,6 +54,16 @@ Each implementation module provides:
     ``peak`` (S,) float64.  The C kernel never holds more than two
     candidates; the numpy twin materialises them in blocks.  Contract:
     :class:`tonebank._kernel._numpy_papr._SlmRunner`.
+``channel_fir(x, hist, taps, interval, offset, out) -> None``
+    Time-varying FIR of the channel models (C op ``tb_channel_fir_*``,
+    ``csrc/tb_channel.c``; modules ``_c_channel`` / ``_numpy_channel``):
+    ``out[r, i] = sum_m c_m(i) x[r, i - m]`` over ``L`` lags, with the
+    ``L - 1`` samples before ``x[r, 0]`` in ``hist[r]`` and taps linear in
+    time between knots ``interval`` samples apart (``offset``: samples
+    from knot 0 to ``x[:, 0]``; one knot = constant taps).  ``x``, ``out``
+    (R, n), ``hist`` (R, L - 1), ``taps`` (S, K, L), row ``r`` using set
+    ``r % S``; C-contiguous, one complex dtype.  Contract:
+    :func:`tonebank._kernel._numpy_channel.channel_fir`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 

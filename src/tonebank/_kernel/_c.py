@@ -393,3 +393,6 @@ from ._c_fbmc import fbmc_runner  # noqa: E402,F401
 
 # ---- selective mapping (cffi wrapper in its own module) ---------------------------
 from ._c_papr import slm_runner  # noqa: E402,F401
+
+# ---- channel models: time-varying FIR (contract in _numpy_channel.py) -------------
+from ._c_channel import channel_fir  # noqa: E402,F401

@@ -153,3 +153,6 @@ from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401
 
 # ---- selective mapping (numpy twin in its own module) -----------------------------
 from ._numpy_papr import slm_runner  # noqa: E402,F401
+
+# ---- channel models: time-varying FIR (numpy twin in its own module) --------------
+from ._numpy_channel import channel_fir  # noqa: E402,F401

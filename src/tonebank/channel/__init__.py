@@ -2,7 +2,10 @@
 
 Every model takes a signal with samples on the last axis (leading axes are
 batch) and an ``rng`` where it is random; see :mod:`tonebank.channel.noise`
-for additive white Gaussian noise and its SNR conventions.
+for additive white Gaussian noise and its SNR conventions,
+:mod:`tonebank.channel.profiles` for power-delay profiles (published
+tables among them) and :mod:`tonebank.channel.tdl` for tapped-delay-line
+fading channels with their true frequency response.
 """
 
 from .noise import (
@@ -13,8 +16,13 @@ from .noise import (
     snr_to_esn0_db,
     snr_to_noise_var,
 )
+from .profiles import PUBLISHED_PROFILES, DelayProfile
+from .tdl import TappedDelayLine
 
 __all__ = [
+    "DelayProfile",
+    "PUBLISHED_PROFILES",
+    "TappedDelayLine",
     "awgn",
     "ebn0_to_snr_db",
     "esn0_to_bin_snr_db",
