@@ -19,6 +19,11 @@ from .plan import CarrierPlan
 from .transforms import FftPlan, fft
 from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
 
+# ---- filterbank branch: windowed and filtered OFDM, spectrum estimates ---------
+from . import spectrum  # noqa: E402
+from .waveforms import (FilteredOfdm, Interference, SubbandGroup,  # noqa: E402
+                        WolaOfdm, subband_interference)
+
 __version__ = "0.1.0"
 
 __all__ = [
@@ -40,4 +45,11 @@ __all__ = [
     "fft",
     "set_backend",
     "use_backend",
+    # filterbank branch
+    "FilteredOfdm",
+    "Interference",
+    "SubbandGroup",
+    "WolaOfdm",
+    "spectrum",
+    "subband_interference",
 ]

@@ -349,3 +349,7 @@ def info() -> dict:
         "c_fft_max_size": int(lib.TB_FFT_MAX_SIZE),
         "numpy_fallback_sizes": tuple(sorted(fallback_sizes)),
     }
+
+
+# ---- filterbank branch: windowed (WOLA) and filtered OFDM ----------------------
+from ._c_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401

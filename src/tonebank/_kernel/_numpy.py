@@ -136,3 +136,7 @@ def ofdm_runner(n: int, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray)
 def info() -> dict:
     """Facts about this backend for :func:`tonebank.backend_info`."""
     return {"numpy_version": np.__version__}
+
+
+# ---- filterbank branch: windowed (WOLA) and filtered OFDM ----------------------
+from ._numpy_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401

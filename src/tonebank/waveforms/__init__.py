@@ -10,3 +10,10 @@ from .base import StreamAnalyzer, StreamSynthesizer, Waveform
 from .cp_ofdm import CpOfdm
 
 __all__ = ["CpOfdm", "StreamAnalyzer", "StreamSynthesizer", "Waveform"]
+
+# ---- filterbank branch: windowed and filtered OFDM -----------------------------
+from .filtered import FilteredOfdm, Interference, SubbandGroup, subband_interference  # noqa: E402
+from .wola import WolaOfdm  # noqa: E402
+
+__all__ += ["FilteredOfdm", "Interference", "SubbandGroup", "WolaOfdm",
+            "subband_interference"]
