@@ -730,6 +730,62 @@ def channel_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- windowed (WOLA) and filtered OFDM (test_05_filterbank.py) ----
+
+#: Target: the fused C kernel at least this many times faster than the
+#: numpy fallback at FILTERBANK_BATCH symbols per call, every variant and n.
+TARGET_FILTERBANK_SPEEDUP = 3.0
+FILTERBANK_BATCH = 140
+
+
+def filterbank_report(path: Path, stat: str = "median") -> str:
+    """The WOLA / filtered-OFDM table (C vs numpy fallback) and its target lines."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    samples: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "filterbank":
+            continue
+        try:
+            key = (str(info["variant"]), str(info["direction"]), int(info["n"]),
+                   int(info["symbols"]))
+            rows[key][str(info["impl"])] = float(bench["stats"][stat])
+            samples[key] = int(info["samples"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Windowed and filtered OFDM (test_05_filterbank.py)",
+             "--------------------------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no filterbank benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} time per call in microseconds, complex128.  wola = WolaOfdm",
+        "(ramps cp/4 + cp/4), fofdm = FilteredOfdm (n/2+1 taps); plans as the CP-OFDM",
+        "benchmark (prefix n/4).  C = fused kernel, numpy = numpy fallback;",
+        "speed-up = numpy / C; C Msa/s = samples per call / C time.",
+        "",
+    ]
+    table_rows = []
+    verdicts = []
+    for key in sorted(rows, key=lambda k: (k[0], k[1], k[2], -k[3])):
+        t = rows[key]
+        c, npy = t.get("c"), t.get("numpy")
+        speed = ratio(npy, c)
+        msa = f"{samples[key] / c / 1e6:.1f}" if c else "-"
+        table_rows.append([key[0], key[1], str(key[2]), str(key[3]), fmt_us(c), fmt_us(npy),
+                           fmt_ratio(speed), msa])
+        if key[3] == FILTERBANK_BATCH:
+            ok = "n/a" if speed is None else ("PASS" if speed >= TARGET_FILTERBANK_SPEEDUP
+                                              else "MISS")
+            verdicts.append(f"  {ok}: {key[0]} {key[1]} n={key[2]}: numpy/C = "
+                            f"{fmt_ratio(speed)} (target >= {TARGET_FILTERBANK_SPEEDUP:g})")
+    lines.append(table(table_rows, ["variant", "direction", "n", "symbols", "C us",
+                                    "numpy us", "speed-up", "C Msa/s"]))
+    lines += ["", f"Filterbank target: C >= {TARGET_FILTERBANK_SPEEDUP:g}x the numpy "
+              f"fallback at {FILTERBANK_BATCH} symbols", *verdicts]
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -741,15 +797,16 @@ def main(argv=None) -> int:
         print(f"report.py: {args.json} does not exist; run `make bench` first",
               file=sys.stderr)
         return 2
-    print(report(args.json, args.stat))
-    # -- PAPR section (papr branch) --
-    papr = papr_report(args.json, args.stat)
+    # One section per benchmark file, in file order.
+    print(report(args.json, args.stat))                # FFT and CP-OFDM
+    print(filterbank_report(args.json, args.stat))     # WOLA, filtered OFDM
+    print(fbmc_report(args.json, args.stat))           # FBMC/OQAM
+    print(channel_report(args.json, args.stat))        # channel convolution
+    print(estimation_report(args.json, args.stat))     # channel estimation
+    papr = papr_report(args.json, args.stat)           # selective mapping, CCDF
     if papr:
         print()
         print(papr)
-    print(estimation_report(args.json, args.stat))   # channel estimation section
-    print(fbmc_report(args.json, args.stat))  # FBMC/OQAM section
-    print(channel_report(args.json, args.stat))
     return 0
 
 

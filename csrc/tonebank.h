@@ -389,6 +389,130 @@ int tb_channel_fir_f64(size_t batch, size_t n, size_t n_lags,
                        const double *taps, size_t n_tap_sets, size_t n_knots,
                        size_t interval, size_t offset,
                        double *y, ptrdiff_t y_batch_stride);
+/* ---- windowed OFDM (WOLA): ramps, overlap-add, receive fold-back ------- */
+/* (filterbank branch: tb_wola.c, tb_wola_impl.h) */
+
+/* Opaque, immutable plan of windowed-overlap-add OFDM: the tables of a
+ * tb_ofdm_plan -- bins_a, bins_b, same rules -- plus a transmit ramp of
+ * `tx` samples and a receive ramp of `rx` samples.  tx_up[0 .. tx) and
+ * rx_up[0 .. rx) are the rising halves; the falling halves are the same
+ * values in reverse order.  For an exact round trip the caller uses
+ * complementary ramps (up[i] + up[len-1-i] == 1), e.g. raised cosines.
+ *
+ * Symbol s (prefix cp[s] >= tx + rx), with body[j] the scaled inverse FFT
+ * (j taken mod n) and o_s = sum_{u<s} (n + cp[u]) its start:
+ *
+ *   out[o_s + i] (+)= g(i) * body[i - cp[s]],   0 <= i < cp[s] + n + tx
+ *   g(i) = tx_up[i]               for i < tx          (inside the prefix)
+ *        = 1                      for tx <= i < cp[s] + n
+ *        = tx_up[tx-1-(i-cp-n)]   for i >= cp[s] + n  (cyclic suffix)
+ *
+ * so the suffix of symbol s is added onto the ramp-up of symbol s+1
+ * and a signal of S symbols has sum(n + cp) + tx samples.  Analysis of
+ * symbol s takes the n + rx samples ending at the end of its FFT window,
+ * y[j] = x[o_s + cp[s] + j] for -rx <= j < n, weights the first and last
+ * rx of them with the receive ramps and folds the first rx onto the last:
+ *
+ *   z[j] = y[j]                                       0 <= j < n - rx
+ *   z[n-rx+i] = rx_up[rx-1-i] y[n-rx+i] + rx_up[i] y[i-rx],  0 <= i < rx
+ *
+ * then forward FFT, times scale, gather.  The samples past the last
+ * window (the final tx) are not read. */
+typedef struct tb_wola_plan tb_wola_plan;
+
+/* Errors: as tb_ofdm_plan_create, and TB_ERR_NULL when tx > 0 and tx_up
+ * is NULL (rx likewise), TB_ERR_ARG when tx or rx exceed n. */
+int tb_wola_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_a,
+                        size_t n_b, const size_t *bins_b, size_t tx, const double *tx_up,
+                        size_t rx, const double *rx_up, tb_wola_plan **plan_out);
+void tb_wola_plan_destroy(tb_wola_plan *plan);
+size_t tb_wola_workspace_size(const tb_wola_plan *plan);
+
+/* Layouts as tb_ofdm_synthesize_* / tb_ofdm_analyze_*, except the
+ * output (input) of each signal holding sum(n + cp) + tx samples.
+ * Errors as there, plus TB_ERR_ARG when a cp[s] < tx + rx. */
+int tb_wola_synthesize_f32(const tb_wola_plan *plan, size_t batch, size_t n_symbols,
+                           const size_t *cp, const float *a, ptrdiff_t a_batch_stride,
+                           ptrdiff_t a_symbol_stride, const float *b,
+                           ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                           float *out, ptrdiff_t out_batch_stride, float scale,
+                           void *work);
+int tb_wola_synthesize_f64(const tb_wola_plan *plan, size_t batch, size_t n_symbols,
+                           const size_t *cp, const double *a, ptrdiff_t a_batch_stride,
+                           ptrdiff_t a_symbol_stride, const double *b,
+                           ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                           double *out, ptrdiff_t out_batch_stride, double scale,
+                           void *work);
+int tb_wola_analyze_f32(const tb_wola_plan *plan, size_t batch, size_t n_symbols,
+                        const size_t *cp, const float *in, ptrdiff_t in_batch_stride,
+                        float *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                        float *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                        float scale, void *work);
+int tb_wola_analyze_f64(const tb_wola_plan *plan, size_t batch, size_t n_symbols,
+                        const size_t *cp, const double *in, ptrdiff_t in_batch_stride,
+                        double *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                        double *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                        double scale, void *work);
+
+/* ---- filtered OFDM: symbol + FIR filter by per-symbol fast convolution --- */
+/* (filterbank branch: tb_fofdm.c, tb_fofdm_impl.h) */
+
+/* Opaque, immutable plan of filtered OFDM: the bin tables of a
+ * tb_ofdm_plan on an n-point transform, a complex FIR filter h of
+ * `taps` coefficients (interleaved double pairs) and a convolution size
+ * m (2^a 3^b 5^c, m >= n + max cp + taps - 1; the caller chooses it).
+ * The plan stores H = DFT_m(h) and G = DFT_m(g), g[t] = conj(h[taps-1-t])
+ * (the matched receive filter), and a real gain per FFT position,
+ * gain[0 .. n), applied to the gathered receive values.
+ *
+ * Synthesis: symbol s (CP-OFDM symbol of n + cp[s] samples, body scaled
+ * by `scale`) is convolved with h and the n + cp[s] + taps - 1 results
+ * are added into the output from o_s = sum_{u<s}(n + cp[u]); a signal of
+ * S symbols has sum(n + cp) + taps - 1 samples (the caller's buffer is
+ * overwritten, no need to zero it).  Each convolution is one m-point
+ * FFT, a product with H and one inverse m-point FFT.
+ *
+ * Analysis: for symbol s the n + taps - 1 samples from o_s + cp[s] are
+ * convolved with g (m-point FFTs); outputs taps-1 .. taps-2+n (the
+ * symbol's FFT window after both filters' delay) are transformed
+ * (forward, n points), multiplied by scale * gain[pos] and gathered.
+ * Input per signal: sum(n + cp) + taps - 1 samples. */
+typedef struct tb_fofdm_plan tb_fofdm_plan;
+
+/* Errors: as tb_ofdm_plan_create; TB_ERR_SIZE when m is unsupported;
+ * TB_ERR_NULL (taps or gain NULL); TB_ERR_ARG when taps == 0 or
+ * n + taps - 1 > m. */
+int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,
+                         const size_t *bins_a, size_t n_b, const size_t *bins_b,
+                         size_t taps, const double *h, const double *gain,
+                         tb_fofdm_plan **plan_out);
+void tb_fofdm_plan_destroy(tb_fofdm_plan *plan);
+size_t tb_fofdm_workspace_size(const tb_fofdm_plan *plan);
+
+/* Layouts as tb_ofdm_synthesize_* / tb_ofdm_analyze_*; errors as there,
+ * plus TB_ERR_ARG when n + cp[s] + taps - 1 > m. */
+int tb_fofdm_synthesize_f32(const tb_fofdm_plan *plan, size_t batch, size_t n_symbols,
+                            const size_t *cp, const float *a, ptrdiff_t a_batch_stride,
+                            ptrdiff_t a_symbol_stride, const float *b,
+                            ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                            float *out, ptrdiff_t out_batch_stride, float scale,
+                            void *work);
+int tb_fofdm_synthesize_f64(const tb_fofdm_plan *plan, size_t batch, size_t n_symbols,
+                            const size_t *cp, const double *a, ptrdiff_t a_batch_stride,
+                            ptrdiff_t a_symbol_stride, const double *b,
+                            ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                            double *out, ptrdiff_t out_batch_stride, double scale,
+                            void *work);
+int tb_fofdm_analyze_f32(const tb_fofdm_plan *plan, size_t batch, size_t n_symbols,
+                         const size_t *cp, const float *in, ptrdiff_t in_batch_stride,
+                         float *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                         float *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                         float scale, void *work);
+int tb_fofdm_analyze_f64(const tb_fofdm_plan *plan, size_t batch, size_t n_symbols,
+                         const size_t *cp, const double *in, ptrdiff_t in_batch_stride,
+                         double *a, ptrdiff_t a_batch_stride, ptrdiff_t a_symbol_stride,
+                         double *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
+                         double scale, void *work);
 
 /* ---- end cffi declarations ---- */
 

@@ -13,57 +13,77 @@ from ._kernel import (
     set_backend,
     use_backend,
 )
-from . import channel, metrics, presets, theory
+from . import (
+    amplifier,
+    channel,
+    equalization,
+    estimation,
+    metrics,
+    papr,
+    presets,
+    spectrum,
+    theory,
+)
+from .channel import DelayProfile, TappedDelayLine
 from .constellation import Constellation
+from .pilots import PilotPattern
 from .plan import CarrierPlan
 from .transforms import FftPlan, fft
-from .waveforms import CpOfdm, StreamAnalyzer, StreamSynthesizer, Waveform
-# FBMC/OQAM (waveforms/fbmc.py)
-from .waveforms import FbmcOqam, phydyas_coefficients, phydyas_prototype
-
-# ---- channel estimation and equalisation (pilot patterns, estimators) ----
-from . import equalization, estimation
-from .pilots import PilotPattern
-# ---- end channel estimation and equalisation ----
-
-# -- peak reduction and amplifier models (papr branch) --
-from . import amplifier, papr
+from .waveforms import (
+    CpOfdm,
+    FbmcOqam,
+    FilteredOfdm,
+    Interference,
+    StreamAnalyzer,
+    StreamSynthesizer,
+    SubbandGroup,
+    Waveform,
+    WolaOfdm,
+    phydyas_coefficients,
+    phydyas_prototype,
+    subband_interference,
+)
 
 __version__ = "0.1.0"
 
 __all__ = [
+    # kernel backends
     "BackendInfo",
     "BackendUnavailableError",
-    "CarrierPlan",
-    "Constellation",
-    "CpOfdm",
-    "FftPlan",
-    "StreamAnalyzer",
-    "StreamSynthesizer",
-    "Waveform",
-    "__version__",
     "backend_info",
-    "channel",
-    "metrics",
-    "presets",
-    "theory",
-    "fft",
     "set_backend",
     "use_backend",
-    # -- papr branch --
-    "amplifier",
-    "papr",
-    # channel estimation and equalisation
+    # plans, constellations, transforms
+    "CarrierPlan",
+    "Constellation",
+    "FftPlan",
     "PilotPattern",
-    "equalization",
-    "estimation",
-    # FBMC/OQAM
+    "fft",
+    # waveforms
+    "CpOfdm",
     "FbmcOqam",
+    "FilteredOfdm",
+    "Interference",
+    "StreamAnalyzer",
+    "StreamSynthesizer",
+    "SubbandGroup",
+    "Waveform",
+    "WolaOfdm",
     "phydyas_coefficients",
     "phydyas_prototype",
+    "subband_interference",
+    # channels
+    "DelayProfile",
+    "TappedDelayLine",
+    # modules
+    "amplifier",
+    "channel",
+    "equalization",
+    "estimation",
+    "metrics",
+    "papr",
+    "presets",
+    "spectrum",
+    "theory",
+    "__version__",
 ]
-
-# ---- channel models (tapped delay lines, delay profiles) ----------------------
-from .channel import DelayProfile, TappedDelayLine  # noqa: E402
-
-__all__ += ["DelayProfile", "TappedDelayLine"]

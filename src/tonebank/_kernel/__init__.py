@@ -64,6 +64,22 @@ Each implementation module provides:
     (R, n), ``hist`` (R, L - 1), ``taps`` (S, K, L), row ``r`` using set
     ``r % S``; C-contiguous, one complex dtype.  Contract:
     :func:`tonebank._kernel._numpy_channel.channel_fir`.
+``wola_runner(n, dtype, bins_a, bins_b, tx_up, rx_up) -> runner``
+    Windowed-overlap-add OFDM: as ``ofdm_runner``,
+    plus the rising transmit and receive ramps (float64 arrays of ``tx``
+    and ``rx`` values).  ``synthesize`` writes each windowed symbol with
+    its cyclic suffix and adds the suffix onto the next symbol's ramp-up
+    (``sum(n + cp) + tx`` samples per signal); ``analyze`` weights the
+    ``rx`` samples before each FFT window and at its end and folds them
+    together before the transform.  Same ``synthesizer`` / ``analyzer``.
+    Contract: :class:`tonebank._kernel._numpy_filterbank._WolaRunner`.
+``fofdm_runner(n, m, dtype, bins_a, bins_b, taps, gain) -> runner``
+    Filtered OFDM: each CP-OFDM symbol is convolved
+    with the complex FIR ``taps`` by ``m``-point fast convolution and
+    overlap-added (``sum(n + cp) + len(taps) - 1`` samples per signal);
+    analysis applies the matched filter the same way, transforms the
+    delayed window and scales bin ``k`` by ``gain[k]``.  Same methods.
+    Contract: :class:`tonebank._kernel._numpy_filterbank._FofdmRunner`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 

@@ -388,11 +388,9 @@ def info() -> dict:
     }
 
 
-# ---- FBMC/OQAM (cffi wrapper in its own module) --------------------------------
-from ._c_fbmc import fbmc_runner  # noqa: E402,F401
-
-# ---- selective mapping (cffi wrapper in its own module) ---------------------------
-from ._c_papr import slm_runner  # noqa: E402,F401
-
-# ---- channel models: time-varying FIR (contract in _numpy_channel.py) -------------
+# The kernel operations of the other modem stages: cffi wrappers, one module per
+# family (each states its contract), re-exported here as the interface.
 from ._c_channel import channel_fir  # noqa: E402,F401
+from ._c_fbmc import fbmc_runner  # noqa: E402,F401
+from ._c_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401
+from ._c_papr import slm_runner  # noqa: E402,F401

@@ -148,11 +148,9 @@ def info() -> dict:
     return {"numpy_version": np.__version__}
 
 
-# ---- FBMC/OQAM (numpy twin in its own module) ----------------------------------
-from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401
-
-# ---- selective mapping (numpy twin in its own module) -----------------------------
-from ._numpy_papr import slm_runner  # noqa: E402,F401
-
-# ---- channel models: time-varying FIR (numpy twin in its own module) --------------
+# The kernel operations of the other modem stages: numpy twins, one module per
+# family (each states its contract), re-exported here as the interface.
 from ._numpy_channel import channel_fir  # noqa: E402,F401
+from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401
+from ._numpy_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401
+from ._numpy_papr import slm_runner  # noqa: E402,F401

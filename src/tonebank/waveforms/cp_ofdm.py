@@ -255,6 +255,22 @@ class CpOfdm(Waveform):
         return hit
 
     def _count_symbols(self, n: int, start_symbol: int) -> int:
+        """Symbols in ``n`` samples: whole symbols and then :attr:`tail` samples."""
+        tail = self.tail
+        if tail:
+            if n < tail:
+                raise ValueError(
+                    f"samples has {n} samples per signal, fewer than the {tail}-sample tail "
+                    "that follows the last symbol (pass n_samples(S) + tail samples; "
+                    "nothing is truncated)")
+            try:
+                return self._count_whole_symbols(n - tail, start_symbol)
+            except ValueError as exc:
+                raise ValueError(f"{exc}; the {tail}-sample tail of the last symbol was set "
+                                 "aside first (pass n_samples(S) + tail samples)") from None
+        return self._count_whole_symbols(n, start_symbol)
+
+    def _count_whole_symbols(self, n: int, start_symbol: int) -> int:
         """Symbols in ``n`` samples, which must be whole symbols."""
         cps = self._plan.cp_lengths
         if len(cps) == 1:
