@@ -34,7 +34,8 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.optimize
-import scipy.signal
+
+from . import spectrum
 
 __all__ = [
     "AmplifierModel",
@@ -314,33 +315,21 @@ class DriveResult:
 
 
 def _aclr_db(samples, sample_rate, channel_bandwidth, offsets):
-    """ACLR per offset from a Welch power spectral density (private helper).
+    """ACLR per offset of a signal batch, from :mod:`tonebank.spectrum`.
 
-    Interim stand-in until ``tonebank.spectrum`` provides ``aclr``: the
-    PSD of the samples (last axis; leading axes averaged) by
-    :func:`scipy.signal.welch` with a Hann window of up to 1024 points,
-    half overlap and a two-sided spectrum; channel power is the PSD
-    summed over ``|f - offset| <= channel_bandwidth / 2``; the result is
-    ``10 log10(P_main / P_offset)`` per offset.  Engineering estimate, not
-    a compliance measurement (no measurement filter, no averaging
-    standard).
+    Channel powers come from :func:`tonebank.spectrum.band_power` (Welch,
+    rectangular channel filters) averaged over the leading axes before the
+    ratio is taken, so a batch of bursts reads as one long signal would.
     """
-    x = np.asarray(samples).reshape(-1, np.shape(samples)[-1])
-    nper = min(1024, x.shape[-1])
-    f, psd = scipy.signal.welch(x, fs=sample_rate, window="hann", nperseg=nper,
-                                return_onesided=False, detrend=False, axis=-1)
-    psd = psd.mean(axis=0)
+    def power(low, high):
+        return float(np.mean(spectrum.band_power(samples, sample_rate, low, high)))
+
     half = channel_bandwidth / 2.0
-
-    def power(centre):
-        sel = np.abs(f - centre) <= half
-        return float(np.sum(psd[sel]))
-
-    main = power(0.0)
+    main = power(-half, half)
     out = []
     for off in offsets:
-        p = power(off)
-        out.append(math.inf if p == 0 else 10.0 * math.log10(main / p))
+        side = power(off - half, off + half)
+        out.append(math.inf if side == 0 else 10.0 * math.log10(main / side))
     return np.asarray(out)
 
 
@@ -396,8 +385,9 @@ def drive(samples, model, *, input_backoff_db=None, output_backoff_db=None,
     output power (the output power is monotonic in the drive up to
     saturation for these models).  EVM:
     :math:`\sqrt{\overline{|y - g x|^2} / \overline{|g x|^2}}` with the
-    least-squares :math:`g`.  ACLR uses a private Welch estimate (see
-    ``_aclr_db``) until ``tonebank.spectrum`` is merged.  All of these
+    least-squares :math:`g`.  ACLR integrates the Welch estimate of
+    :func:`tonebank.spectrum.band_power` over rectangular channels of
+    ``channel_bandwidth``.  All of these
     are engineering estimates, not compliance measurements.  Cost: a few
     passes per model evaluation; an output back-off takes some tens of
     evaluations.
