@@ -41,6 +41,9 @@ docs: $(VENV)/.installed-test
 	$(SPHINX) -b html docs docs/_build/html
 	$(SPHINX) -b doctest docs docs/_build/doctest
 
+# One BLAS thread: the C kernel is single-threaded, and on a shared machine
+# spinning BLAS threads distort the estimation figures several times over.
+bench: export OPENBLAS_NUM_THREADS = 1
 bench: $(VENV)/.installed-bench
 	$(BIN)/python -m pytest benchmarks -q --benchmark-only \
 	    --benchmark-json=benchmarks/.results.json -p no:randomly \
