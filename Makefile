@@ -31,8 +31,8 @@ test: export TONEBANK_REQUIRE_C = 1
 test: ctest pytest docs
 
 ctest:
-	$(MAKE) -C csrc test
-	$(MAKE) -C csrc test-clang
+	$(MAKE) -C csrc -j2 test
+	$(MAKE) -C csrc -j2 test-clang
 
 pytest: $(VENV)/.installed-test
 	$(BIN)/python -m pytest -q
