@@ -99,9 +99,15 @@
  * build targets (SSE2 on any x86-64, NEON on AArch64, ...).  On x86-64
  * with GCC or clang, the kernels are compiled a second time for AVX2 and
  * a plan picks that copy at creation when the CPU and OS support AVX2.
- * FMA is not enabled, so both copies perform the same IEEE operations in
- * the same order and give bit-identical results (tests/test_fft.c checks
- * this).  Define TB_NO_DISPATCH to build the portable kernels only.
+ * The AVX2 copy also uses a few hand-written intrinsics routines
+ * (tb_fft_avx2.h): shuffle-based transposes between rows and lanes, and
+ * SFX(vpass4) in tb_fft_impl.h, the radix-4 passes on whole vectors laid
+ * out per kind of pass.  They move data differently but perform exactly
+ * the butterflies of the plain code.  FMA is not enabled, so both copies
+ * perform the same IEEE operations in the same order and give
+ * bit-identical results (tests/test_fft.c checks this).  Define
+ * TB_NO_DISPATCH to build the portable kernels only; the plain C code is
+ * the reference every other copy must match.
  *
  * Build flags: any optimisation level works; -O3 (or -O2 with
  * -ftree-vectorize) is what makes the loops SIMD.  Keep -ffp-contract=off
@@ -148,6 +154,10 @@
 #define TB_DISPATCH_AVX2 1
 #else
 #define TB_DISPATCH_AVX2 0
+#endif
+
+#if TB_DISPATCH_AVX2
+#include <immintrin.h>
 #endif
 
 #ifdef TB_TWIDDLE_DOUBLE
@@ -217,17 +227,29 @@ static int tb_aligned(const void *p, size_t a)
 #pragma GCC target("avx2")
 #endif
 
+/* Hand-written shuffles the AVX2 copies use (tb_fft_avx2.h). */
+#include "tb_fft_avx2.h"
+#define TB_AVX2_KERNELS 1
+
+/* TB_AVX2_HALVES: the precision has the 128-bit-half loads of
+ * tb_fft_avx2.h (float only; see SFX(vpass4)). */
 #define REAL float
 #define SFX(name) name##_f32_avx2
+#define TB_AVX2_HALVES 1
 #include "tb_fft_impl.h"
 #undef REAL
 #undef SFX
+#undef TB_AVX2_HALVES
 
 #define REAL double
 #define SFX(name) name##_f64_avx2
+#define TB_AVX2_HALVES 0
 #include "tb_fft_impl.h"
 #undef REAL
 #undef SFX
+#undef TB_AVX2_HALVES
+
+#undef TB_AVX2_KERNELS
 
 #if defined(__clang__)
 #pragma clang attribute pop
@@ -542,4 +564,27 @@ float *tb_fft_core_lanes_f32(const tb_fft_plan *p, int inv, float *work)
 double *tb_fft_core_lanes_f64(const tb_fft_plan *p, int inv, double *work)
 {
     return TB_PICK(p, lane_passes_f64, (p, inv, work));
+}
+
+void tb_fft_core_lanes_load_f32(const tb_fft_plan *p, const float *const *rows, float *work)
+{
+    TB_PICK(p, lanes_in_f32, (p->n, rows, 1, work, work + p->half));
+}
+
+void tb_fft_core_lanes_load_f64(const tb_fft_plan *p, const double *const *rows,
+                                double *work)
+{
+    TB_PICK(p, lanes_in_f64, (p->n, rows, 1, work, work + p->half));
+}
+
+void tb_fft_core_lanes_store_f32(const tb_fft_plan *p, const float *res, float scale,
+                                 float *const *rows)
+{
+    TB_PICK(p, lanes_out_f32, (p->n, res, res + p->half, scale, rows, 1));
+}
+
+void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double scale,
+                                 double *const *rows)
+{
+    TB_PICK(p, lanes_out_f64, (p->n, res, res + p->half, scale, rows, 1));
 }

@@ -427,6 +427,267 @@ TB_INLINE void SFX(last4)(const REAL *TB_RESTRICT xr, const REAL *TB_RESTRICT xi
     TB_YP(0, off), TB_YP(1, off), TB_YP(2, off), TB_YP(3, off), TB_YP(4, off),  \
         TB_YP(5, off), TB_YP(6, off), TB_YP(7, off)
 
+#ifdef TB_AVX2_KERNELS
+/*
+ * Radix-4 passes with explicit AVX2 vectors (the AVX2 copy only).
+ *
+ * The compiler vectorises SFX(col4) well when a column is long, but a
+ * Stockham FFT also has passes with short columns (m of 4 or 16 for
+ * n <= 4096) and a last pass that gathers its inputs with stride 4;
+ * there its code spends more instructions on loop control, peeling and
+ * shuffles than on the butterflies.  SFX(vpass4) runs the same
+ * butterflies, with the same IEEE operations in the same order as
+ * SFX(col4) (so the result is bit-identical to the portable copy), on
+ * whole vectors of V = SFX(VLEN) REALs (8 floats or 4 doubles) laid
+ * out to suit each kind of pass (logical indices as in the pass
+ * picture; x(g, q, j) = x[g + m*(q + 4*j)]):
+ *
+ *   first pass (l == 1)   lanes = V consecutive g; the caller's
+ *                         interleaved input is split into re/im vectors
+ *                         on the fly (vld_split);
+ *   m % V == 0            lanes = V consecutive g of one column j, one
+ *                         broadcast twiddle per column (columns of one
+ *                         or two vectors: SFX(vcols4));
+ *   m == 4, float         lanes = 4 g of column j, then 4 g of column
+ *                         j+1: two 128-bit loads, one 256-bit store
+ *                             | x(0..3, q, j) | x(0..3, q, j+1) |
+ *   m == 1 (last pass)    lanes = V consecutive columns j; the 4V inputs
+ *                         x[4j + q] are contiguous and one transpose
+ *                         (vld_t4) turns them into 4 vectors, one per
+ *                         q; twiddles are plain vector loads along j,
+ *                         and the outputs are interleaved on the way
+ *                         out (vst_inter):
+ *                             x: j0:q0 q1 q2 q3 | j0+1:q0 q1 q2 q3 | ...
+ *                             -> a_q = x(q, j0 .. j0+V-1)
+ *
+ * Returns 0, leaving everything untouched, for the layouts it does not
+ * cover (the caller then runs the plain code).
+ */
+#define TB_V SFX(vec)
+
+/* a *= (wr + i wi), as TB_CMUL. */
+TB_INLINE void SFX(vcmul)(TB_V *ar, TB_V *ai, TB_V wr, TB_V wi)
+{
+    const TB_V tr = SFX(vsub)(SFX(vmul)(*ar, wr), SFX(vmul)(*ai, wi));
+    *ai = SFX(vadd)(SFX(vmul)(*ar, wi), SFX(vmul)(*ai, wr));
+    *ar = tr;
+}
+
+/* In place: a_b <- sum_q a_q exp(-2 pi i q b / 4), as SFX(col4). */
+TB_INLINE void SFX(vdft4)(TB_V *ar, TB_V *ai)
+{
+    const TB_V t0r = SFX(vadd)(ar[0], ar[2]), t0i = SFX(vadd)(ai[0], ai[2]);
+    const TB_V t1r = SFX(vsub)(ar[0], ar[2]), t1i = SFX(vsub)(ai[0], ai[2]);
+    const TB_V t2r = SFX(vadd)(ar[1], ar[3]), t2i = SFX(vadd)(ai[1], ai[3]);
+    const TB_V t3r = SFX(vsub)(ar[1], ar[3]), t3i = SFX(vsub)(ai[1], ai[3]);
+    ar[0] = SFX(vadd)(t0r, t2r);
+    ai[0] = SFX(vadd)(t0i, t2i);
+    ar[1] = SFX(vadd)(t1r, t3i);
+    ai[1] = SFX(vsub)(t1i, t3r);
+    ar[2] = SFX(vsub)(t0r, t2r);
+    ai[2] = SFX(vsub)(t0i, t2i);
+    ar[3] = SFX(vsub)(t1r, t3i);
+    ai[3] = SFX(vadd)(t1i, t3r);
+}
+
+/* The last radix-4 pass (m == 1) of SFX(vpass4), V columns at a time;
+ * conj and scaled are literal constants at each call. */
+TB_INLINE void SFX(vlast4)(ptrdiff_t nblk, ptrdiff_t plp, ptrdiff_t pl, const REAL *xr,
+                           const REAL *xi, ptrdiff_t xpad, REAL *yr, const ptrdiff_t *yo,
+                           const REAL *tw, REAL sc, const int conj, const int scaled)
+{
+    const ptrdiff_t V = SFX(VLEN);
+    const TB_V vsc = SFX(vset1)(sc), vsg = SFX(vset1)((REAL)-1);
+    TB_V ar[4], ai[4], wr, wi;
+    ptrdiff_t c, jo, q, b;
+    for (c = 0; c < nblk; c++) {
+        const ptrdiff_t j0 = c * plp;
+        const REAL *x0r = xr + 4 * j0 + c * xpad, *x0i = xi + 4 * j0 + c * xpad;
+        for (jo = 0; jo < plp; jo += V) {
+            const REAL *twr = tw + j0 + jo, *twi = tw + pl + j0 + jo;
+            SFX(vld_t4)(x0r + 4 * jo, ar);
+            SFX(vld_t4)(x0i + 4 * jo, ai);
+            for (q = 1; q < 4; q++) {
+                wr = SFX(vld)(twr + (q - 1) * 2 * pl);
+                wi = SFX(vld)(twi + (q - 1) * 2 * pl);
+                if (conj)
+                    wi = SFX(vmul)(vsg, wi);
+                SFX(vcmul)(&ar[q], &ai[q], wr, wi);
+            }
+            SFX(vdft4)(ar, ai);
+            for (b = 0; b < 4; b++) {
+                if (scaled) {
+                    ar[b] = SFX(vmul)(vsc, ar[b]);
+                    ai[b] = SFX(vmul)(vsc, ai[b]);
+                }
+                SFX(vst_inter)(yr + yo[b] + 2 * (j0 + jo), ar[b], ai[b]);
+            }
+        }
+    }
+}
+
+/* Passes whose columns are nv = 1 or 2 vectors long (m = nv V; nv is a
+ * literal at each call, so the column is straight code): the 4 inputs of
+ * column j are the 4 m contiguous REALs from x + 4 m j, its outputs start
+ * at y + m j in each slot; one base pointer each (re/im at a fixed
+ * distance) keeps the whole loop in registers. */
+TB_INLINE void SFX(vcols4)(ptrdiff_t nblk, ptrdiff_t plp, ptrdiff_t pl, const REAL *xr,
+                           const REAL *xi, ptrdiff_t xpad, REAL *yr, REAL *yi,
+                           const ptrdiff_t *yo, const REAL *tw, REAL sg, const ptrdiff_t nv)
+{
+    const ptrdiff_t V = SFX(VLEN), pm = nv * V;
+    const ptrdiff_t dxi = xi - xr, dyi = yi - yr;
+    TB_V ar[4], ai[4], wr[4], wi[4];
+    ptrdiff_t c, jo, q, b, g;
+    for (c = 0; c < nblk; c++) {
+        const ptrdiff_t j0 = c * plp;
+        const REAL *sr = xr + 4 * pm * j0 + c * xpad;
+        REAL *dr = yr + pm * j0;
+        for (jo = 0; jo < plp; jo++, sr += 4 * pm, dr += pm) {
+            const REAL *twr = tw + j0 + jo, *twi = tw + pl + j0 + jo;
+            for (q = 1; q < 4; q++) {
+                wr[q] = SFX(vset1)(twr[(q - 1) * 2 * pl]);
+                wi[q] = SFX(vset1)(sg * twi[(q - 1) * 2 * pl]);
+            }
+            for (g = 0; g < pm; g += V) {
+                for (q = 0; q < 4; q++) {
+                    ar[q] = SFX(vld)(sr + g + pm * q);
+                    ai[q] = SFX(vld)(sr + dxi + g + pm * q);
+                }
+                for (q = 1; q < 4; q++)
+                    SFX(vcmul)(&ar[q], &ai[q], wr[q], wi[q]);
+                SFX(vdft4)(ar, ai);
+                for (b = 0; b < 4; b++) {
+                    SFX(vst)(dr + g + yo[b], ar[b]);
+                    SFX(vst)(dr + dyi + g + yo[b], ai[b]);
+                }
+            }
+        }
+    }
+}
+
+static int SFX(vpass4)(const tb_fft_pass *ps, const REAL *xr, const REAL *xi, ptrdiff_t xs,
+                       ptrdiff_t xpad, REAL *yr, REAL *yi, ptrdiff_t ys, ptrdiff_t ypad,
+                       const REAL *tw, int inv, REAL sc)
+{
+    const ptrdiff_t V = SFX(VLEN);
+    const REAL sg = inv ? (REAL)-1 : (REAL)1;
+    const ptrdiff_t pm = (ptrdiff_t)ps->m, pl = (ptrdiff_t)ps->l;
+    const ptrdiff_t plp = xpad ? (ptrdiff_t)ps->lp : pl, nblk = pl / plp;
+    ptrdiff_t yo[4], b, c, jo, g, q;
+    TB_V ar[4], ai[4], wr[4], wi[4];
+    for (b = 0; b < 4; b++)
+        yo[b] = (inv ? (4 - b) % 4 : b) * (pm * pl * ys + ypad);
+    if (pl == 1) {
+        if (ys != 1 || sc != (REAL)1 || pm % V != 0 || (xs != 1 && xs != 2))
+            return 0;
+        for (g = 0; g < pm; g += V) {
+            for (q = 0; q < 4; q++) {
+                if (xs == 2) {
+                    SFX(vld_split)(xr + 2 * (g + pm * q), &ar[q], &ai[q]);
+                } else {
+                    ar[q] = SFX(vld)(xr + g + pm * q);
+                    ai[q] = SFX(vld)(xi + g + pm * q);
+                }
+            }
+            SFX(vdft4)(ar, ai);
+            for (b = 0; b < 4; b++) {
+                SFX(vst)(yr + yo[b] + g, ar[b]);
+                SFX(vst)(yi + yo[b] + g, ai[b]);
+            }
+        }
+        return 1;
+    }
+    if (xs != 1)
+        return 0;
+    if ((pm == V || pm == 2 * V) && ys == 1 && sc == (REAL)1) {
+        if (pm == V)
+            SFX(vcols4)(nblk, plp, pl, xr, xi, xpad, yr, yi, yo, tw, sg, 1);
+        else
+            SFX(vcols4)(nblk, plp, pl, xr, xi, xpad, yr, yi, yo, tw, sg, 2);
+        return 1;
+    }
+    if (pm % V == 0 && ys == 1 && sc == (REAL)1) {
+        for (c = 0; c < nblk; c++) {
+            const ptrdiff_t j0 = c * plp;
+            const REAL *x0r = xr + 4 * pm * j0 + c * xpad, *x0i = xi + 4 * pm * j0 + c * xpad;
+            for (jo = 0; jo < plp; jo++) {
+                const REAL *twr = tw + j0 + jo, *twi = tw + pl + j0 + jo;
+                const REAL *sr = x0r + 4 * pm * jo, *si = x0i + 4 * pm * jo;
+                const ptrdiff_t o = pm * (j0 + jo);
+                for (q = 1; q < 4; q++) {
+                    wr[q] = SFX(vset1)(twr[(q - 1) * 2 * pl]);
+                    wi[q] = SFX(vset1)(sg * twi[(q - 1) * 2 * pl]);
+                }
+                for (g = 0; g < pm; g += V) {
+                    for (q = 0; q < 4; q++) {
+                        ar[q] = SFX(vld)(sr + g + pm * q);
+                        ai[q] = SFX(vld)(si + g + pm * q);
+                    }
+                    for (q = 1; q < 4; q++)
+                        SFX(vcmul)(&ar[q], &ai[q], wr[q], wi[q]);
+                    SFX(vdft4)(ar, ai);
+                    for (b = 0; b < 4; b++) {
+                        SFX(vst)(yr + yo[b] + o + g, ar[b]);
+                        SFX(vst)(yi + yo[b] + o + g, ai[b]);
+                    }
+                }
+            }
+        }
+        return 1;
+    }
+#if TB_AVX2_HALVES
+    if (V == 8 && pm == 4 && ys == 1 && sc == (REAL)1 && plp % 2 == 0) {
+        for (c = 0; c < nblk; c++) {
+            const ptrdiff_t j0 = c * plp;
+            const REAL *x0r = xr + 16 * j0 + c * xpad, *x0i = xi + 16 * j0 + c * xpad;
+            for (jo = 0; jo < plp; jo += 2) {
+                const REAL *twr = tw + j0 + jo, *twi = tw + pl + j0 + jo;
+                const REAL *sr = x0r + 16 * jo, *si = x0i + 16 * jo;
+                const ptrdiff_t o = 4 * (j0 + jo);
+                for (q = 1; q < 4; q++) {
+                    const ptrdiff_t t = (q - 1) * 2 * pl;
+                    wr[q] = SFX(vset2)(twr[t], twr[t + 1]);
+                    wi[q] = SFX(vset2)(sg * twi[t], sg * twi[t + 1]);
+                }
+                for (q = 0; q < 4; q++) {
+                    ar[q] = SFX(vld_2x4)(sr + 4 * q, sr + 16 + 4 * q);
+                    ai[q] = SFX(vld_2x4)(si + 4 * q, si + 16 + 4 * q);
+                }
+                for (q = 1; q < 4; q++)
+                    SFX(vcmul)(&ar[q], &ai[q], wr[q], wi[q]);
+                SFX(vdft4)(ar, ai);
+                for (b = 0; b < 4; b++) {
+                    SFX(vst)(yr + yo[b] + o, ar[b]);
+                    SFX(vst)(yi + yo[b] + o, ai[b]);
+                }
+            }
+        }
+        return 1;
+    }
+#endif
+    if (pm == 1 && ys == 2 && plp % V == 0) {
+        /* w * 1 == w and x * 1 == x exactly: the forward direction skips
+         * the sign product of the twiddles and a unit scale its product,
+         * each in its own compiled copy of the loop */
+        if (inv)
+            SFX(vlast4)(nblk, plp, pl, xr, xi, xpad, yr, yo, tw, sc, 1, sc != (REAL)1);
+        else if (sc != (REAL)1)
+            SFX(vlast4)(nblk, plp, pl, xr, xi, xpad, yr, yo, tw, sc, 0, 1);
+        else
+            SFX(vlast4)(nblk, plp, pl, xr, xi, xpad, yr, yo, tw, sc, 0, 0);
+        return 1;
+    }
+    return 0;
+}
+#undef TB_V
+#define TB_TRY_VPASS(R)                                                        \
+    if (R == 4 && SFX(vpass4)(ps, xr, xi, xs, xpad, yr, yi, ys, ypad, tw, inv, sc)) \
+        return;
+#else
+#define TB_TRY_VPASS(R)
+#endif
+
 #define TB_DEFINE_PASS(R)                                                      \
     /* Any strides: one shared, out-of-line copy for the rare layouts. */    \
     static void SFX(colg##R)(size_t co, ptrdiff_t xso, ptrdiff_t yso,          \
@@ -454,6 +715,7 @@ TB_INLINE void SFX(last4)(const REAL *TB_RESTRICT xr, const REAL *TB_RESTRICT xi
         const size_t lp = xpad ? ps->lp : l;                                   \
         const ptrdiff_t plp = (ptrdiff_t)lp, nblk = pl / plp;                  \
         ptrdiff_t yo[8], b, c;                                                 \
+        TB_TRY_VPASS(R)                                                        \
         for (b = 0; b < R; b++)                                                \
             yo[b] = (inv ? (R - b) % R : b) * (pm * pl * ys + ypad);           \
         if (l == 1) {                                                          \
@@ -606,45 +868,91 @@ static REAL *SFX(lane_passes)(const tb_fft_plan *p, int inv, REAL *work)
     return xr;
 }
 
-/* TB_LANES rows: row r at in + 2*r*irs (element stride is), out likewise. */
-static void SFX(lanes)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t irs,
-                       ptrdiff_t is, REAL *out, ptrdiff_t ors, ptrdiff_t os, REAL scale,
-                       REAL *work)
+/*
+ * Rows <-> lanes.  SFX(lanes_in) copies TB_LANES rows (row r starts at
+ * src[r], interleaved, element stride `is`) into the lane layout of W0;
+ * SFX(lanes_out) copies the lanes back into rows dst[r] (element stride
+ * os), times scale.  Contiguous rows (stride 1) take the shuffle-based
+ * transposes of tb_fft_avx2.h in the AVX2 copy; plain loops otherwise.
+ */
+static void SFX(lanes_in)(size_t n, const REAL *const *src, ptrdiff_t is, REAL *xr,
+                          REAL *xi)
 {
-    const size_t half = p->half;
-    const ptrdiff_t L = TB_LANES, n = (ptrdiff_t)p->n;
-    REAL *xr = work, *xi = work + half;
+    const ptrdiff_t L = TB_LANES, pn = (ptrdiff_t)n;
     ptrdiff_t r, e;
-    /* rows -> lanes (all input read before any output is written) */
+#ifdef TB_AVX2_KERNELS
+    if (is == 1) {
+        SFX(rows_to_lanes)(n, src, xr, xi);
+        return;
+    }
+#endif
     for (r = 0; r < L; r++) {
-        const REAL *src = in + 2 * r * irs;
+        const REAL *s = src[r];
         if (is == 1)
-            for (e = 0; e < n; e++) {
-                xr[e * L + r] = src[2 * e];
-                xi[e * L + r] = src[2 * e + 1];
+            for (e = 0; e < pn; e++) {
+                xr[e * L + r] = s[2 * e];
+                xi[e * L + r] = s[2 * e + 1];
             }
         else
-            for (e = 0; e < n; e++) {
-                xr[e * L + r] = src[2 * e * is];
-                xi[e * L + r] = src[2 * e * is + 1];
+            for (e = 0; e < pn; e++) {
+                xr[e * L + r] = s[2 * e * is];
+                xi[e * L + r] = s[2 * e * is + 1];
             }
     }
-    xr = SFX(lane_passes)(p, inv, work);
-    xi = xr + half;
-    /* lanes -> rows, scaled */
+}
+
+static void SFX(lanes_out)(size_t n, const REAL *xr, const REAL *xi, REAL scale,
+                           REAL *const *dst, ptrdiff_t os)
+{
+    const ptrdiff_t L = TB_LANES, pn = (ptrdiff_t)n;
+    ptrdiff_t r, e;
+#ifdef TB_AVX2_KERNELS
+    if (os == 1) {
+        SFX(lanes_to_rows)(n, xr, xi, scale, dst);
+        return;
+    }
+#endif
     for (r = 0; r < L; r++) {
-        REAL *dst = out + 2 * r * ors;
+        REAL *d = dst[r];
         if (os == 1)
-            for (e = 0; e < n; e++) {
-                dst[2 * e] = scale * xr[e * L + r];
-                dst[2 * e + 1] = scale * xi[e * L + r];
+            for (e = 0; e < pn; e++) {
+                d[2 * e] = scale * xr[e * L + r];
+                d[2 * e + 1] = scale * xi[e * L + r];
             }
         else
-            for (e = 0; e < n; e++) {
-                dst[2 * e * os] = scale * xr[e * L + r];
-                dst[2 * e * os + 1] = scale * xi[e * L + r];
+            for (e = 0; e < pn; e++) {
+                d[2 * e * os] = scale * xr[e * L + r];
+                d[2 * e * os + 1] = scale * xi[e * L + r];
             }
     }
+}
+
+/*
+ * `count` rows (1 <= count <= TB_LANES) through the lane engine: row r at
+ * in + 2*r*irs (element stride is), out likewise.  With fewer than
+ * TB_LANES rows the spare lanes transform copies of the last row and
+ * write to the workspace part that does not hold the result; each lane
+ * runs the same operations whatever the others hold.
+ */
+static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *in,
+                       ptrdiff_t irs, ptrdiff_t is, REAL *out, ptrdiff_t ors, ptrdiff_t os,
+                       REAL scale, REAL *work)
+{
+    const REAL *src[TB_LANES];
+    REAL *dst[TB_LANES], *res, *spare;
+    ptrdiff_t r;
+    for (r = 0; r < TB_LANES; r++) {
+        const ptrdiff_t k = r < (ptrdiff_t)count ? r : (ptrdiff_t)count - 1;
+        src[r] = in + 2 * k * irs;
+        dst[r] = out + 2 * k * ors;
+    }
+    /* all input is read before any output is written (in place works) */
+    SFX(lanes_in)(p->n, src, is, work, work + p->half);
+    res = SFX(lane_passes)(p, inv, work);
+    spare = (res == work) ? work + 2 * p->half : work;
+    for (r = (ptrdiff_t)count; r < TB_LANES; r++)
+        dst[r] = spare;
+    SFX(lanes_out)(p->n, res, res + p->half, scale, dst, os);
 }
 
 /*
@@ -738,7 +1046,8 @@ static void SFX(row)(const tb_fft_plan *p, int inv, const REAL *in, ptrdiff_t is
 }
 
 /* The batch, arguments already checked: groups of TB_LANES rows where
- * the plan allows, then one row at a time. */
+ * the plan allows (the last one possibly with spare lanes), then one row
+ * at a time. */
 static void SFX(rows)(const tb_fft_plan *p, int inv, size_t batch, const REAL *in,
                       ptrdiff_t in_row_stride, ptrdiff_t in_stride, REAL *out,
                       ptrdiff_t out_row_stride, ptrdiff_t out_stride, REAL scale,
@@ -746,11 +1055,15 @@ static void SFX(rows)(const tb_fft_plan *p, int inv, size_t batch, const REAL *i
 {
     size_t b = 0;
     if (p->lanes)
-        for (; b + TB_LANES <= batch; b += TB_LANES) {
+        while (b < batch && (batch - b >= TB_LANES || 2 * (batch - b) > TB_LANES)) {
+            /* full groups, then a last group with spare lanes when more
+             * than half of it is real rows (cheaper than single rows) */
             const ptrdiff_t pb = (ptrdiff_t)b;
-            SFX(lanes)(p, inv, in + 2 * pb * in_row_stride, in_row_stride, in_stride,
+            const size_t count = batch - b < TB_LANES ? batch - b : TB_LANES;
+            SFX(lanes)(p, inv, count, in + 2 * pb * in_row_stride, in_row_stride, in_stride,
                        out + 2 * pb * out_row_stride, out_row_stride, out_stride, scale,
                        work);
+            b += count;
         }
     for (; b < batch; b++) {
         const ptrdiff_t pb = (ptrdiff_t)b;
@@ -776,5 +1089,6 @@ static void SFX(rows)(const tb_fft_plan *p, int inv, size_t batch, const REAL *i
 #undef TB_YPASS5
 #undef TB_YPASS8
 #undef TB_DEFINE_PASS
+#undef TB_TRY_VPASS
 #undef TB_DEFINE_LANE_PASS
 #undef TB_LANES

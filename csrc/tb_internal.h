@@ -68,4 +68,22 @@ void tb_fft_core_row_f64(const tb_fft_plan *p, int inv, const double *xr,
 float *tb_fft_core_lanes_f32(const tb_fft_plan *p, int inv, float *work);
 double *tb_fft_core_lanes_f64(const tb_fft_plan *p, int inv, double *work);
 
+/*
+ * Moving TB_FFT_LANES rows into and out of the lane layout, for plans
+ * with plan->lanes set (shuffle-based transposes in the AVX2 copy).
+ * tb_fft_core_lanes_load_*: row r is n contiguous interleaved complex
+ *   values at rows[r]; they go to W0 in lane layout (see above).
+ * tb_fft_core_lanes_store_*: res is what tb_fft_core_lanes_* returned;
+ *   lane r goes to the n contiguous interleaved values at rows[r], times
+ *   scale.  The rows must not overlap the workspace.
+ */
+void tb_fft_core_lanes_load_f32(const tb_fft_plan *p, const float *const *rows,
+                                float *work);
+void tb_fft_core_lanes_load_f64(const tb_fft_plan *p, const double *const *rows,
+                                double *work);
+void tb_fft_core_lanes_store_f32(const tb_fft_plan *p, const float *res, float scale,
+                                 float *const *rows);
+void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double scale,
+                                 double *const *rows);
+
 #endif /* TB_INTERNAL_H */

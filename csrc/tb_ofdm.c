@@ -19,8 +19,17 @@
  *
  * Small n (plan->lanes, n <= 64): symbols go through the FFT eight at a
  * time in the lane layout of tb_fft_impl.h, which is where small
- * transforms get their speed; the scatter and gather then address lanes
- * directly (element e of symbol r at W[e*8 + r]).
+ * transforms get their speed.  Each symbol is scattered into (or
+ * gathered from) a plain interleaved row of n bins in a free part of the
+ * FFT workspace, where every run of bins is one block copy, and the
+ * eight rows are moved into (out of) the lanes by the FFT's own
+ * transposes (tb_fft_core_lanes_load_* / _store_*, shuffle-based in the
+ * AVX2 copy):
+ *
+ *   synthesis:  a, b --runs--> 8 rows in W1 --load--> lanes in W0 --FFT-->
+ *               lanes --store, times scale--> 8 symbol bodies, + prefixes
+ *   analysis:   8 bodies --load--> lanes in W0 --FFT--> lanes --store-->
+ *               8 rows in the free part --runs, times scale--> a, b
  *
  * Plan memory: one allocation
  *     +---------------------+-------------+-------------+-----------------+

@@ -6,13 +6,18 @@
  * tb_ofdm.c.
  */
 
-/* Copy interleaved values src[k] to split storage (re, im) at the
- * positions of the runs, element stride `step` (1 for a single row in W0,
- * TB_FFT_LANES for a lane). */
+/* Copy interleaved values src[k] to (re, im) at the positions of the
+ * runs, element stride `step` in REALs: 1 for a split row in W0, 2 for
+ * an interleaved row (im = re + 1: each run is one block copy). */
 static void SFX(put_runs)(const tb_run *run, size_t nrun, const REAL *src, REAL *re,
                           REAL *im, size_t step)
 {
     size_t r, i;
+    if (step == 2 && im == re + 1) {
+        for (r = 0; r < nrun; r++)
+            memcpy(re + 2 * run[r].pos, src + 2 * run[r].k, 2 * run[r].len * sizeof(REAL));
+        return;
+    }
     for (r = 0; r < nrun; r++) {
         const REAL *s = src + 2 * run[r].k;
         REAL *dr = re + run[r].pos * step, *di = im + run[r].pos * step;
@@ -28,6 +33,16 @@ static void SFX(get_runs)(const tb_run *run, size_t nrun, const REAL *re, const 
                           size_t step, REAL scale, REAL *dst)
 {
     size_t r, i;
+    if (step == 2 && im == re + 1) {
+        /* interleaved row: one contiguous loop over 2 len REALs per run */
+        for (r = 0; r < nrun; r++) {
+            const REAL *s = re + 2 * run[r].pos;
+            REAL *d = dst + 2 * run[r].k;
+            for (i = 0; i < 2 * run[r].len; i++)
+                d[i] = scale * s[i];
+        }
+        return;
+    }
     for (r = 0; r < nrun; r++) {
         const REAL *sr = re + run[r].pos * step, *si = im + run[r].pos * step;
         REAL *d = dst + 2 * run[r].k;
@@ -38,8 +53,9 @@ static void SFX(get_runs)(const tb_run *run, size_t nrun, const REAL *re, const 
     }
 }
 
-/* Scatter one symbol's a and b values into split storage and zero the
- * null bins: afterwards every one of the n bins has been written. */
+/* Scatter one symbol's a and b values into (re, im) at element stride
+ * `step` (see put_runs) and zero the null bins: afterwards every one of
+ * the n bins has been written. */
 static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, REAL *re,
                          REAL *im, size_t step)
 {
@@ -47,6 +63,14 @@ static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, RE
     SFX(put_runs)(p->run_a, p->nrun_a, a, re, im, step);
     if (b != NULL)
         SFX(put_runs)(p->run_b, p->nrun_b, b, re, im, step);
+    if (step == 2 && im == re + 1) {
+        for (r = 0; r < p->nrun_null; r++) {
+            REAL *d = re + 2 * p->run_null[r].pos;
+            for (i = 0; i < 2 * p->run_null[r].len; i++)
+                d[i] = 0;
+        }
+        return;
+    }
     for (r = 0; r < p->nrun_null; r++) {
         REAL *dr = re + p->run_null[r].pos * step, *di = im + p->run_null[r].pos * step;
         for (i = 0; i < p->run_null[r].len; i++) {
@@ -56,7 +80,8 @@ static void SFX(scatter)(const tb_ofdm_plan *p, const REAL *a, const REAL *b, RE
     }
 }
 
-/* Gather one symbol's a and b values from split storage, times scale. */
+/* Gather one symbol's a and b values from (re, im) at element stride
+ * `step` (see put_runs), times scale. */
 static void SFX(gather)(const tb_ofdm_plan *p, const REAL *re, const REAL *im,
                         size_t step, REAL scale, REAL *a, REAL *b)
 {
@@ -87,31 +112,34 @@ int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_sym
 
     while (done < total) {
         if (f->lanes && total - done >= L) {
-            /* Eight symbols through the lane engine. */
+            /* Eight symbols through the lane engine: each is scattered
+             * into an interleaved row of W1 (block copies of the runs),
+             * the rows are transposed into the lanes of W0. */
             tb_ofdm_cursor at[TB_FFT_LANES];
-            REAL *re, *im;
-            size_t r, e;
+            REAL *re, *body[TB_FFT_LANES];
+            const REAL *grid[TB_FFT_LANES];
+            size_t r;
             for (r = 0; r < L; r++) {
                 const ptrdiff_t q = (ptrdiff_t)c.q, s = (ptrdiff_t)c.s;
+                REAL *row = w + 2 * f->half + 2 * n * r;
                 at[r] = c;
                 SFX(scatter)(plan, a + 2 * (q * a_batch_stride + s * a_symbol_stride),
                              b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL,
-                             w + r, w + f->half + r, L);
+                             row, row + 1, 2);
+                grid[r] = row;
                 tb_ofdm_next(&c, n, n_symbols, cp);
             }
+            SFX(tb_fft_core_lanes_load)(f, grid, w);
             re = SFX(tb_fft_core_lanes)(f, 1, w);
-            im = re + f->half;
+            for (r = 0; r < L; r++)
+                body[r] = out + 2 * ((ptrdiff_t)at[r].q * out_batch_stride +
+                                     (ptrdiff_t)(at[r].offset + cp[at[r].s]));
+            SFX(tb_fft_core_lanes_store)(f, re, scale, body);
             for (r = 0; r < L; r++) {
                 const size_t ncp = cp[at[r].s];
-                REAL *sym = out + 2 * ((ptrdiff_t)at[r].q * out_batch_stride +
-                                       (ptrdiff_t)at[r].offset);
-                REAL *body = sym + 2 * ncp;
-                for (e = 0; e < n; e++) {
-                    body[2 * e] = scale * re[e * L + r];
-                    body[2 * e + 1] = scale * im[e * L + r];
-                }
                 if (ncp > 0)
-                    memcpy(sym, body + 2 * (n - ncp), 2 * ncp * sizeof(REAL));
+                    memcpy(body[r] - 2 * ncp, body[r] + 2 * (n - ncp),
+                           2 * ncp * sizeof(REAL));
             }
             done += L;
         } else {
@@ -163,23 +191,26 @@ int SFX(tb_ofdm_analyze)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbol
     while (done < total) {
         if (f->lanes && total - done >= L) {
             tb_ofdm_cursor at[TB_FFT_LANES];
-            REAL *re, *im;
-            size_t r, e;
+            const REAL *body[TB_FFT_LANES];
+            REAL *re, *spare, *spec[TB_FFT_LANES];
+            size_t r;
             for (r = 0; r < L; r++) {
-                const REAL *body = in + 2 * ((ptrdiff_t)c.q * in_batch_stride +
-                                             (ptrdiff_t)(c.offset + cp[c.s]));
+                body[r] = in + 2 * ((ptrdiff_t)c.q * in_batch_stride +
+                                    (ptrdiff_t)(c.offset + cp[c.s]));
                 at[r] = c;
-                for (e = 0; e < n; e++) {
-                    w[e * L + r] = body[2 * e];
-                    w[f->half + e * L + r] = body[2 * e + 1];
-                }
                 tb_ofdm_next(&c, n, n_symbols, cp);
             }
+            SFX(tb_fft_core_lanes_load)(f, body, w);
             re = SFX(tb_fft_core_lanes)(f, 0, w);
-            im = re + f->half;
+            /* the spectra go back to interleaved rows in the workspace
+             * part not holding the result, then the bins are gathered */
+            spare = (re == w) ? w + 2 * f->half : w;
+            for (r = 0; r < L; r++)
+                spec[r] = spare + 2 * n * r;
+            SFX(tb_fft_core_lanes_store)(f, re, (REAL)1, spec);
             for (r = 0; r < L; r++) {
                 const ptrdiff_t q = (ptrdiff_t)at[r].q, s = (ptrdiff_t)at[r].s;
-                SFX(gather)(plan, re + r, im + r, L, scale,
+                SFX(gather)(plan, spec[r], spec[r] + 1, 2, scale,
                             a + 2 * (q * a_batch_stride + s * a_symbol_stride),
                             b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL);
             }

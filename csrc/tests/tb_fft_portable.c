@@ -21,4 +21,8 @@
 #define tb_fft_core_row_f64 tbport_fft_core_row_f64
 #define tb_fft_core_lanes_f32 tbport_fft_core_lanes_f32
 #define tb_fft_core_lanes_f64 tbport_fft_core_lanes_f64
+#define tb_fft_core_lanes_load_f32 tbport_fft_core_lanes_load_f32
+#define tb_fft_core_lanes_load_f64 tbport_fft_core_lanes_load_f64
+#define tb_fft_core_lanes_store_f32 tbport_fft_core_lanes_store_f32
+#define tb_fft_core_lanes_store_f64 tbport_fft_core_lanes_store_f64
 #include "../tb_fft.c"

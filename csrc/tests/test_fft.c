@@ -632,12 +632,13 @@ static void check_layouts(size_t n)
 /*
  * Rows of a batch give the same bits whether they run alone or in a
  * group of 8 (small n runs 8 rows at once; see "Lanes" in tb_fft_impl.h).
+ * batch 19 = 8 + 8 + 3 single rows; batch 21 = 8 + 8 + a group of 5
+ * rows with 3 spare lanes.
  */
-static void check_batch_bitwise(size_t n)
+static void check_batch_bitwise_n(size_t n, size_t batch)
 {
     static const int precs[2] = {TB_FLOAT32, TB_FLOAT64};
     static const int dirs[2] = {TB_FORWARD, TB_INVERSE};
-    const size_t batch = 19;
     double *x = (double *)malloc(2 * batch * n * sizeof(double));
     double *yb = (double *)malloc(2 * batch * n * sizeof(double));
     double *y1 = (double *)malloc(2 * n * sizeof(double));
@@ -672,6 +673,12 @@ static void check_batch_bitwise(size_t n)
     free(x);
     free(yb);
     free(y1);
+}
+
+static void check_batch_bitwise(size_t n)
+{
+    check_batch_bitwise_n(n, 19);
+    check_batch_bitwise_n(n, 21);
 }
 
 /* Forward then inverse with scale 1/n returns the input. */
