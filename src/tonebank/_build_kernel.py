@@ -51,7 +51,7 @@ const char *tbpy_cflags(void);
 #: OFDM signal live in a small struct, so a call from Python passes 4 or 5
 #: arguments instead of 11 to 15.  cffi's cost per argument is a sizeable
 #: part of a 64-point call.
-_QUICK_FFT_CDEF = """
+_SHORTCUT_TYPES = """
 typedef struct {
     const tb_fft_plan *plan;
     int direction;
@@ -59,44 +59,6 @@ typedef struct {
     size_t n;
     double scale;
 } tbpy_fft_call;
-int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
-                  void *work);
-
-typedef struct {
-    const tb_ofdm_plan *plan;
-    int single;
-    size_t n_symbols;
-    const size_t *cp;
-    const void *b;
-    size_t n_a;
-    size_t n_b;
-    double scale;
-} tbpy_ofdm_call;
-int tbpy_ofdm_synthesize1(const tbpy_ofdm_call *call, void *a, void *out, void *work);
-int tbpy_ofdm_analyze1(const tbpy_ofdm_call *call, void *in, void *a, void *b,
-                       void *work);
-"""
-
-_QUICK_FFT_SOURCE = """
-typedef struct {
-    const tb_fft_plan *plan;
-    int direction;
-    int single;
-    size_t n;
-    double scale;
-} tbpy_fft_call;
-
-/* batch contiguous rows of n complex values, in to out. */
-int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
-                  void *work)
-{
-    ptrdiff_t n = (ptrdiff_t)call->n;
-    if (call->single)
-        return tb_fft_execute_f32(call->plan, call->direction, batch, (const float *)in,
-                                  n, 1, (float *)out, n, 1, (float)call->scale, work);
-    return tb_fft_execute_f64(call->plan, call->direction, batch, (const double *)in,
-                              n, 1, (double *)out, n, 1, call->scale, work);
-}
 
 /* One signal of n_symbols OFDM symbols with the prefixes, the pilot
  * table b (may be NULL) and the scale bound in the struct. */
@@ -110,6 +72,28 @@ typedef struct {
     size_t n_b;
     double scale;
 } tbpy_ofdm_call;
+"""
+
+_SHORTCUT_CDEF = _SHORTCUT_TYPES + """
+int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
+                  void *work);
+int tbpy_ofdm_synthesize1(const tbpy_ofdm_call *call, void *a, void *out, void *work);
+int tbpy_ofdm_analyze1(const tbpy_ofdm_call *call, void *in, void *a, void *b,
+                       void *work);
+"""
+
+_SHORTCUT_SOURCE = _SHORTCUT_TYPES + """
+/* batch contiguous rows of n complex values, in to out. */
+int tbpy_fft_rows(const tbpy_fft_call *call, size_t batch, void *in, void *out,
+                  void *work)
+{
+    ptrdiff_t n = (ptrdiff_t)call->n;
+    if (call->single)
+        return tb_fft_execute_f32(call->plan, call->direction, batch, (const float *)in,
+                                  n, 1, (float *)out, n, 1, (float)call->scale, work);
+    return tb_fft_execute_f64(call->plan, call->direction, batch, (const double *)in,
+                              n, 1, (double *)out, n, 1, call->scale, work);
+}
 
 int tbpy_ofdm_synthesize1(const tbpy_ofdm_call *call, void *a, void *out, void *work)
 {
@@ -188,9 +172,9 @@ static const char tbpy_compiler_text[] = "unknown compiler";
 #endif
 const char *tbpy_compiler(void) {{ return tbpy_compiler_text; }}
 const char *tbpy_cflags(void) {{ return {_c_string(" ".join(cflags))}; }}
-""" + _QUICK_FFT_SOURCE
+""" + _SHORTCUT_SOURCE
     ffibuilder = cffi.FFI()
-    ffibuilder.cdef(header_declarations() + _BUILD_INFO_CDEF + _QUICK_FFT_CDEF)
+    ffibuilder.cdef(header_declarations() + _BUILD_INFO_CDEF + _SHORTCUT_CDEF)
     ffibuilder.set_source(
         "tonebank._kernel._tonebank_c",
         module_source,

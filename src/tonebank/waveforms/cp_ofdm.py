@@ -210,14 +210,21 @@ class CpOfdm(Waveform):
             with self._lock:
                 runner = self._runners.get(key)
                 if runner is None:
-                    if compact:
-                        runner = impl.ofdm_runner(self.fft_size, dtype, self._data_pos,
-                                                  self._pilot_pos)
-                    else:
-                        runner = impl.ofdm_runner(self.fft_size, dtype, self._grid_pos,
-                                                  np.zeros(0, np.uintp))
+                    if compact:      # data and pilots from their own tables
+                        a, b = self._data_pos, self._pilot_pos
+                    else:            # the whole grid as one table
+                        a, b = self._grid_pos, np.zeros(0, np.uintp)
+                    runner = self._new_runner(impl, dtype, a, b)
                     self._runners[key] = runner
         return runner
+
+    def _new_runner(self, impl, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray):
+        """The kernel runner of this waveform for two bin tables (see :mod:`tonebank._kernel`).
+
+        The one hook a waveform built on CP-OFDM's symbol layout overrides
+        to run its own fused kernel operation.
+        """
+        return impl.ofdm_runner(self.fft_size, dtype, bins_a, bins_b)
 
     def _prepared(self, kind: str, dtype: np.dtype, count: int, start: int):
         """The kernel call for one signal from symbol ``start``, with

@@ -41,7 +41,6 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.signal
 
-from .. import _kernel
 from .._checks import generator, integer
 from ..plan import CarrierPlan
 from .cp_ofdm import CpOfdm
@@ -267,22 +266,9 @@ class FilteredOfdm(CpOfdm):
         cp, total = super()._layout(n_symbols, start)
         return cp, total + self.tail
 
-    def _runner(self, dtype: np.dtype, compact: bool):
-        impl = _kernel.active()
-        key = (impl.NAME, dtype.char, compact)
-        runner = self._runners.get(key)
-        if runner is None:
-            with self._lock:
-                runner = self._runners.get(key)
-                if runner is None:
-                    if compact:
-                        a, b = self._data_pos, self._pilot_pos
-                    else:
-                        a, b = self._grid_pos, np.zeros(0, np.uintp)
-                    runner = impl.fofdm_runner(self.fft_size, self._m, dtype, a, b,
-                                               self._h, self._gain)
-                    self._runners[key] = runner
-        return runner
+    def _new_runner(self, impl, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray):
+        return impl.fofdm_runner(self.fft_size, self._m, dtype, bins_a, bins_b, self._h,
+                                 self._gain)
 
 
 def _output_rate(sub: FilteredOfdm):

@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from .. import _kernel
 from .._checks import integer
 from ..plan import CarrierPlan
 from .cp_ofdm import CpOfdm
@@ -205,19 +204,6 @@ class WolaOfdm(CpOfdm):
         cp, total = super()._layout(n_symbols, start)
         return cp, total + self.tail
 
-    def _runner(self, dtype: np.dtype, compact: bool):
-        impl = _kernel.active()
-        key = (impl.NAME, dtype.char, compact)
-        runner = self._runners.get(key)
-        if runner is None:
-            with self._lock:
-                runner = self._runners.get(key)
-                if runner is None:
-                    if compact:
-                        a, b = self._data_pos, self._pilot_pos
-                    else:
-                        a, b = self._grid_pos, np.zeros(0, np.uintp)
-                    runner = impl.wola_runner(self.fft_size, dtype, a, b, self._tx_up,
-                                              self._rx_up)
-                    self._runners[key] = runner
-        return runner
+    def _new_runner(self, impl, dtype: np.dtype, bins_a: np.ndarray, bins_b: np.ndarray):
+        return impl.wola_runner(self.fft_size, dtype, bins_a, bins_b, self._tx_up,
+                                self._rx_up)
