@@ -1,10 +1,11 @@
 /*
- * tb_common.c -- status strings and version of the tonebank C kernel.
+ * tb_common.c -- status strings, version, and the helpers the kernel's
+ * operations share (declared in tb_internal.h).
  *
  * Every string returned here is a static constant: callers may keep the
  * pointer forever and must not free it.
  */
-#include "tonebank.h"
+#include "tb_internal.h"
 
 const char *tb_strerror(int status)
 {
@@ -31,4 +32,28 @@ const char *tb_strerror(int status)
 const char *tb_version(void)
 {
     return "0.1.0";
+}
+
+size_t tb_real_size(int precision)
+{
+    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
+}
+
+int tb_check_symbol_call(int plan_precision, int precision, size_t n_symbols,
+                         const size_t *cp, size_t cp_min, size_t cp_max, const void *a,
+                         const void *b, int need_b, const void *samples, const void *work)
+{
+    const size_t rs = tb_real_size(precision);
+    size_t s;
+    if (cp == NULL || a == NULL || samples == NULL || work == NULL || (need_b && b == NULL))
+        return TB_ERR_NULL;
+    if (plan_precision != precision)
+        return TB_ERR_PRECISION;
+    if (((uintptr_t)a % rs) != 0 || ((uintptr_t)samples % rs) != 0 ||
+        (b != NULL && ((uintptr_t)b % rs) != 0) || ((uintptr_t)work % sizeof(double)) != 0)
+        return TB_ERR_ARG;
+    for (s = 0; s < n_symbols; s++)
+        if (cp[s] < cp_min || cp[s] > cp_max)
+            return TB_ERR_ARG;
+    return TB_OK;
 }

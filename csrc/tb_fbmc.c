@@ -68,11 +68,6 @@ struct tb_fbmc_plan {
     const void *c;  /* 2 M REALs, inside this block */
 };
 
-static size_t tb_fbmc_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 /* Bytes of the struct, rounded up so the tables after it are aligned. */
 static size_t tb_fbmc_head(void)
 {
@@ -99,7 +94,7 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
         return TB_ERR_SIZE;
     if (overlap < 1 || overlap > TB_FFT_MAX_SIZE / m)
         return TB_ERR_ARG;
-    rs = tb_fbmc_real_size(precision);
+    rs = tb_real_size(precision);
     taps = overlap * m;
     base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs);
     if (base == NULL)
@@ -159,7 +154,7 @@ size_t tb_fbmc_workspace_size(const tb_fbmc_plan *plan)
     if (plan == NULL)
         return 0;
     return tb_fft_workspace_size(plan->fft) +
-           3 * 2 * plan->m * tb_fbmc_real_size(plan->fft->precision);
+           3 * 2 * plan->m * tb_real_size(plan->fft->precision);
 }
 
 size_t tb_fbmc_tail(const tb_fbmc_plan *plan)
@@ -173,7 +168,7 @@ size_t tb_fbmc_tail(const tb_fbmc_plan *plan)
 static int tb_fbmc_check(const tb_fbmc_plan *plan, int precision, const void *in,
                          const void *out, const void *work)
 {
-    const size_t rs = tb_fbmc_real_size(precision);
+    const size_t rs = tb_real_size(precision);
     if (plan == NULL || in == NULL || out == NULL || work == NULL)
         return TB_ERR_NULL;
     if (plan->fft->precision != precision)

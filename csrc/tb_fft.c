@@ -322,11 +322,6 @@ static int tb_factor(size_t n, int *radix)
     return np;
 }
 
-static size_t tb_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 /* Fill the twiddle table (see the picture at the top). */
 static void tb_fill_twiddles(tb_fft_plan *p)
 {

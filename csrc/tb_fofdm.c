@@ -43,11 +43,6 @@ struct tb_fofdm_plan {
     const size_t *pos_a, *pos_b;
 };
 
-static size_t tb_fofdm_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 /* H = DFT_m(h), G = DFT_m(g) with g[t] = conj(h[taps-1-t]), in double. */
 static int tb_fofdm_responses(size_t m, size_t taps, const double *h, double *H, double *G)
 {
@@ -179,7 +174,7 @@ size_t tb_fofdm_workspace_size(const tb_fofdm_plan *plan)
     ws_m = tb_fft_workspace_size(plan->fft_m);
     ws = ws_n > ws_m ? ws_n : ws_m;
     {
-        const size_t rs = tb_fofdm_real_size(plan->fft_n->precision);
+        const size_t rs = tb_real_size(plan->fft_n->precision);
         const size_t reals = tb_fofdm_fft_reals(plan);
         if (ws < reals * rs)
             ws = reals * rs;
@@ -191,20 +186,16 @@ static int tb_fofdm_check(const tb_fofdm_plan *plan, int precision, size_t n_sym
                           const size_t *cp, const void *a, const void *b, int need_b,
                           const void *samples, const void *work)
 {
-    const size_t rs = tb_fofdm_real_size(precision);
-    size_t s;
-    if (plan == NULL || cp == NULL || a == NULL || samples == NULL || work == NULL ||
-        (need_b && b == NULL))
+    size_t used, cp_max;
+    if (plan == NULL)
         return TB_ERR_NULL;
-    if (plan->fft_n->precision != precision)
-        return TB_ERR_PRECISION;
-    if (((uintptr_t)a % rs) != 0 || ((uintptr_t)samples % rs) != 0 ||
-        (b != NULL && ((uintptr_t)b % rs) != 0) || ((uintptr_t)work % sizeof(double)) != 0)
+    /* A symbol, its prefix and the filter's tail must fit the convolution. */
+    used = plan->n + plan->taps - 1;
+    if (plan->m < used)
         return TB_ERR_ARG;
-    for (s = 0; s < n_symbols; s++)
-        if (cp[s] > plan->n || plan->n + cp[s] + plan->taps - 1 > plan->m)
-            return TB_ERR_ARG;
-    return TB_OK;
+    cp_max = plan->m - used < plan->n ? plan->m - used : plan->n;
+    return tb_check_symbol_call(plan->fft_n->precision, precision, n_symbols, cp, 0, cp_max,
+                                a, b, need_b, samples, work);
 }
 
 #define REAL float

@@ -86,4 +86,19 @@ void tb_fft_core_lanes_store_f32(const tb_fft_plan *p, const float *res, float s
 void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double scale,
                                  double *const *rows);
 
+/* Bytes of one REAL of a precision: float for TB_FLOAT32, else double. */
+size_t tb_real_size(int precision);
+
+/*
+ * The checks every symbol-by-symbol operation (CP-OFDM, WOLA, filtered
+ * OFDM) makes before it runs, against a plan of precision plan_precision:
+ * NULL pointers (b only when need_b) -> TB_ERR_NULL; a precision other
+ * than the plan's -> TB_ERR_PRECISION; data not aligned to its REAL, a
+ * workspace not aligned to double, or a prefix cp[s] outside
+ * [cp_min, cp_max] -> TB_ERR_ARG.  TB_OK when the call may proceed.
+ */
+int tb_check_symbol_call(int plan_precision, int precision, size_t n_symbols,
+                         const size_t *cp, size_t cp_min, size_t cp_max, const void *a,
+                         const void *b, int need_b, const void *samples, const void *work);
+
 #endif /* TB_INTERNAL_H */

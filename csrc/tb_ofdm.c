@@ -131,11 +131,6 @@ static void tb_ofdm_next(tb_ofdm_cursor *c, size_t n, size_t n_symbols, const si
     }
 }
 
-static size_t tb_ofdm_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_a,
                         size_t n_b, const size_t *bins_b, tb_ofdm_plan **plan_out)
 {
@@ -222,7 +217,7 @@ size_t tb_ofdm_workspace_size(const tb_ofdm_plan *plan)
     if (plan == NULL)
         return 0;
     return tb_fft_workspace_size(plan->fft) +
-           2 * plan->n * tb_ofdm_real_size(plan->fft->precision);
+           2 * plan->n * tb_real_size(plan->fft->precision);
 }
 
 /* Checks shared by every execute call; TB_OK when it may proceed. */
@@ -230,20 +225,10 @@ static int tb_ofdm_check(const tb_ofdm_plan *plan, int precision, size_t n_symbo
                          const size_t *cp, const void *a, const void *b, int need_b,
                          const void *samples, const void *work)
 {
-    const size_t rs = tb_ofdm_real_size(precision);
-    size_t s;
-    if (plan == NULL || cp == NULL || a == NULL || samples == NULL || work == NULL ||
-        (need_b && b == NULL))
+    if (plan == NULL)
         return TB_ERR_NULL;
-    if (plan->fft->precision != precision)
-        return TB_ERR_PRECISION;
-    if (((uintptr_t)a % rs) != 0 || ((uintptr_t)samples % rs) != 0 ||
-        (b != NULL && ((uintptr_t)b % rs) != 0) || ((uintptr_t)work % sizeof(double)) != 0)
-        return TB_ERR_ARG;
-    for (s = 0; s < n_symbols; s++)
-        if (cp[s] > plan->n)
-            return TB_ERR_ARG;
-    return TB_OK;
+    return tb_check_symbol_call(plan->fft->precision, precision, n_symbols, cp, 0, plan->n,
+                                a, b, need_b, samples, work);
 }
 
 /* ---- the operations, once per precision ---------------------------------- */

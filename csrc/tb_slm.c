@@ -62,11 +62,6 @@ struct tb_slm_plan {
     const void *tw;     /* (L - 1) x n branch twiddles, float or double, inside this block */
 };
 
-static size_t tb_slm_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 /* Offset of the twiddle table after the struct, aligned for double. */
 static size_t tb_slm_table_offset(void)
 {
@@ -90,7 +85,7 @@ int tb_slm_plan_create(size_t n, size_t m, int precision, tb_slm_plan **plan_out
     if (!tb_fft_size_supported(n) || m > TB_FFT_MAX_SIZE)
         return TB_ERR_SIZE;
     L = m / n;
-    rs = tb_slm_real_size(precision);
+    rs = tb_real_size(precision);
     p = (tb_slm_plan *)malloc(tb_slm_table_offset() + 2 * (L - 1) * n * rs + 1);
     if (p == NULL)
         return TB_ERR_NOMEM;
@@ -139,7 +134,7 @@ size_t tb_slm_workspace_size(const tb_slm_plan *plan)
     if (plan == NULL)
         return 0;
     return tb_fft_workspace_size(plan->fft) +
-           (2 * plan->n + 4 * plan->m) * tb_slm_real_size(plan->fft->precision);
+           (2 * plan->n + 4 * plan->m) * tb_real_size(plan->fft->precision);
 }
 
 /* Checks shared by both precisions; TB_OK when the call may proceed. */
@@ -148,7 +143,7 @@ static int tb_slm_check(const tb_slm_plan *plan, int precision, size_t n_symbols
                         const void *out, ptrdiff_t out_stride, const size_t *index,
                         const double *peak, double tie_margin, const void *work)
 {
-    const size_t rs = tb_slm_real_size(precision);
+    const size_t rs = tb_real_size(precision);
     if (plan == NULL || grid == NULL || phases == NULL || out == NULL || index == NULL ||
         peak == NULL || work == NULL)
         return TB_ERR_NULL;

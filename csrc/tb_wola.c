@@ -44,11 +44,6 @@ struct tb_wola_plan {
     const double *rx_up; /* rising receive ramp, rx values */
 };
 
-static size_t tb_wola_real_size(int precision)
-{
-    return precision == TB_FLOAT32 ? sizeof(float) : sizeof(double);
-}
-
 int tb_wola_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_a,
                         size_t n_b, const size_t *bins_b, size_t tx, const double *tx_up,
                         size_t rx, const double *rx_up, tb_wola_plan **plan_out)
@@ -134,7 +129,7 @@ size_t tb_wola_workspace_size(const tb_wola_plan *plan)
     if (plan == NULL)
         return 0;
     return tb_fft_workspace_size(plan->fft) +
-           4 * plan->n * tb_wola_real_size(plan->fft->precision);
+           4 * plan->n * tb_real_size(plan->fft->precision);
 }
 
 /* Checks shared by the execute calls; TB_OK when it may proceed. */
@@ -142,20 +137,11 @@ static int tb_wola_check(const tb_wola_plan *plan, int precision, size_t n_symbo
                          const size_t *cp, const void *a, const void *b, int need_b,
                          const void *samples, const void *work)
 {
-    const size_t rs = tb_wola_real_size(precision);
-    size_t s;
-    if (plan == NULL || cp == NULL || a == NULL || samples == NULL || work == NULL ||
-        (need_b && b == NULL))
+    if (plan == NULL)
         return TB_ERR_NULL;
-    if (plan->fft->precision != precision)
-        return TB_ERR_PRECISION;
-    if (((uintptr_t)a % rs) != 0 || ((uintptr_t)samples % rs) != 0 ||
-        (b != NULL && ((uintptr_t)b % rs) != 0) || ((uintptr_t)work % sizeof(double)) != 0)
-        return TB_ERR_ARG;
-    for (s = 0; s < n_symbols; s++)
-        if (cp[s] > plan->n || cp[s] < plan->tx + plan->rx)
-            return TB_ERR_ARG;
-    return TB_OK;
+    /* The ramps live inside the prefix. */
+    return tb_check_symbol_call(plan->fft->precision, precision, n_symbols, cp,
+                                plan->tx + plan->rx, plan->n, a, b, need_b, samples, work);
 }
 
 #define REAL float
