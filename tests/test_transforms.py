@@ -385,8 +385,10 @@ def test_repeated_calls_take_the_prepared_path_with_the_same_results(dtype):
     rng = np.random.default_rng(11)
     base = (rng.standard_normal((6, 64)) + 1j * rng.standard_normal((6, 64))).astype(dtype)
     plan = tonebank.FftPlan(64, dtype=dtype)
+    read_only = base.copy()
+    read_only.flags.writeable = False
     layouts = [base[0], base, base[::2], base[:, ::-1].copy()[:, ::-1], base[:0],
-               np.asfortranarray(base)]
+               np.asfortranarray(base), read_only]
     for x in layouts + layouts:
         want = np.fft.fft(x.astype(np.complex128), axis=-1)
         for got in (tonebank.fft(x), plan(x)):

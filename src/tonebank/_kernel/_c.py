@@ -228,7 +228,8 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
     def run(x, out=None):
         if out is None:
             out = empty(x.shape, dtype)
-            if x.flags.carray:
+            flags = x.flags          # the input may be read-only (not "carray")
+            if flags.c_contiguous and flags.aligned:
                 batch = x.size // n
                 if batch:
                     status = rows(call, batch, from_buffer(x), from_buffer(out),
