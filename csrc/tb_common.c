@@ -5,6 +5,8 @@
  * Every string returned here is a static constant: callers may keep the
  * pointer forever and must not free it.
  */
+#include <stdlib.h>
+
 #include "tb_internal.h"
 
 const char *tb_strerror(int status)
@@ -56,4 +58,29 @@ int tb_check_symbol_call(int plan_precision, int precision, size_t n_symbols,
         if (cp[s] < cp_min || cp[s] > cp_max)
             return TB_ERR_ARG;
     return TB_OK;
+}
+
+int tb_mark_bin_tables(size_t n, size_t n_a, const size_t *bins_a, size_t n_b,
+                       const size_t *bins_b, unsigned char *seen)
+{
+    size_t k;
+    for (k = 0; k < n_a + n_b; k++) {
+        const size_t pos = k < n_a ? bins_a[k] : bins_b[k - n_a];
+        if (pos >= n || seen[pos])
+            return TB_ERR_ARG;
+        seen[pos] = 1;
+    }
+    return TB_OK;
+}
+
+int tb_check_bin_tables(size_t n, size_t n_a, const size_t *bins_a, size_t n_b,
+                        const size_t *bins_b)
+{
+    unsigned char *seen = (unsigned char *)calloc(n, 1);
+    int st;
+    if (seen == NULL)
+        return TB_ERR_NOMEM;
+    st = tb_mark_bin_tables(n, n_a, bins_a, n_b, bins_b, seen);
+    free(seen);
+    return st;
 }

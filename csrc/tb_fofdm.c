@@ -81,8 +81,6 @@ int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,
                          tb_fofdm_plan **plan_out)
 {
     tb_fofdm_plan *p;
-    unsigned char *seen;
-    size_t k;
     int st = TB_OK;
 
     if (plan_out == NULL)
@@ -97,17 +95,7 @@ int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,
         return TB_ERR_SIZE;
     if (n_a > n || n_b > n - n_a || taps == 0 || taps > m || n > m - (taps - 1))
         return TB_ERR_ARG;
-    seen = (unsigned char *)calloc(n, 1);
-    if (seen == NULL)
-        return TB_ERR_NOMEM;
-    for (k = 0; k < n_a + n_b && st == TB_OK; k++) {
-        const size_t pos = k < n_a ? bins_a[k] : bins_b[k - n_a];
-        if (pos >= n || seen[pos])
-            st = TB_ERR_ARG;
-        else
-            seen[pos] = 1;
-    }
-    free(seen);
+    st = tb_check_bin_tables(n, n_a, bins_a, n_b, bins_b);
     if (st != TB_OK)
         return st;
 

@@ -86,6 +86,18 @@ void tb_fft_core_lanes_store_f32(const tb_fft_plan *p, const float *res, float s
 void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double scale,
                                  double *const *rows);
 
+/*
+ * The bin tables of a plan: every position < n and none used twice across
+ * both tables.  tb_mark_bin_tables sets seen[pos] = 1 for each (seen: n
+ * zeroed bytes, kept by the caller for the unused bins);
+ * tb_check_bin_tables does the same on its own scratch.  TB_ERR_ARG for
+ * a bad table, TB_ERR_NOMEM when the scratch cannot be had, else TB_OK.
+ */
+int tb_mark_bin_tables(size_t n, size_t n_a, const size_t *bins_a, size_t n_b,
+                       const size_t *bins_b, unsigned char *seen);
+int tb_check_bin_tables(size_t n, size_t n_a, const size_t *bins_a, size_t n_b,
+                        const size_t *bins_b);
+
 /* Bytes of one REAL of a precision: float for TB_FLOAT32, else double. */
 size_t tb_real_size(int precision);
 

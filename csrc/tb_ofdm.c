@@ -136,7 +136,7 @@ int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_
 {
     tb_ofdm_plan *p;
     unsigned char *seen;
-    size_t k, nrun_a, nrun_b, nrun_null;
+    size_t nrun_a, nrun_b, nrun_null;
     int st;
 
     if (plan_out == NULL)
@@ -155,14 +155,7 @@ int tb_ofdm_plan_create(size_t n, int precision, size_t n_a, const size_t *bins_
     seen = (unsigned char *)calloc(n, 1);
     if (seen == NULL)
         return TB_ERR_NOMEM;
-    st = TB_OK;
-    for (k = 0; k < n_a + n_b && st == TB_OK; k++) {
-        const size_t pos = k < n_a ? bins_a[k] : bins_b[k - n_a];
-        if (pos >= n || seen[pos])
-            st = TB_ERR_ARG;
-        else
-            seen[pos] = 1;
-    }
+    st = tb_mark_bin_tables(n, n_a, bins_a, n_b, bins_b, seen);
     if (st != TB_OK) {
         free(seen);
         return st;
