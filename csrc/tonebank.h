@@ -514,6 +514,32 @@ int tb_fofdm_analyze_f64(const tb_fofdm_plan *plan, size_t batch, size_t n_symbo
                          double *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
                          double scale, void *work);
 
+/* ---- synchronisation: sliding correlation a period apart ------------- */
+/* (tb_halves.c, tb_halves_impl.h) */
+
+/* For each of `batch` signals of n complex samples x, and each start
+ * d = 0 .. n_out - 1 with n_out = n - period - window + 1:
+ *
+ *     p[d] = sum_{m=0}^{window-1} conj(x[d+m]) x[d+m+period]   (complex)
+ *     r[d] = sum_{m=0}^{window-1} |x[d+m+period]|^2           (real)
+ *
+ * the correlation and later-part energy behind timing metrics for
+ * preambles with repeated parts and for the cyclic prefix.  Computed as
+ * running sums restarted from a direct sum every 4096 outputs, in
+ * double for both precisions, so the error does not grow with n.  The
+ * samples of signal q start at x + 2 * q * x_stride, its outputs at
+ * p + 2 * q * p_stride and r + q * r_stride (strides in elements of
+ * each array: complex for x and p, real for r); samples contiguous.  No
+ * workspace; p and r must not overlap x.
+ *
+ * Errors (nothing written): TB_ERR_NULL (x, p or r NULL), TB_ERR_ARG
+ * (period or window is 0, or n < period + window - 1). */
+int tb_halves_correlation_f32(size_t batch, size_t n, size_t period, size_t window,
+                              const float *x, ptrdiff_t x_stride, float *p,
+                              ptrdiff_t p_stride, float *r, ptrdiff_t r_stride);
+int tb_halves_correlation_f64(size_t batch, size_t n, size_t period, size_t window,
+                              const double *x, ptrdiff_t x_stride, double *p,
+                              ptrdiff_t p_stride, double *r, ptrdiff_t r_stride);
 /* ---- end cffi declarations ---- */
 
 #ifdef __cplusplus

@@ -64,6 +64,16 @@ Each implementation module provides:
     (R, n), ``hist`` (R, L - 1), ``taps`` (S, K, L), row ``r`` using set
     ``r % S``; C-contiguous, one complex dtype.  Contract:
     :func:`tonebank._kernel._numpy_channel.channel_fir`.
+``halves_correlation(x, period, window) -> (p, r)``
+    Sliding correlation behind the synchronisation metrics (C op
+    ``tb_halves_correlation_*``, ``csrc/tb_halves.c``; modules ``_c_sync``
+    / ``_numpy_sync``): ``p[..., d] = sum_{m < window} conj(x[..., d+m])
+    x[..., d+m+period]`` and ``r[..., d] = sum_{m < window}
+    |x[..., d+m+period]|^2`` for ``d < n - period - window + 1``, as
+    running sums in double restarted every 4096 outputs.  Unlike the
+    other ops it allocates and returns its outputs (``p`` of ``x``'s
+    complex dtype, ``r`` real) and checks its own arguments.  Contract:
+    :func:`tonebank._kernel._numpy_sync.halves_correlation`.
 ``wola_runner(n, dtype, bins_a, bins_b, tx_up, rx_up) -> runner``
     Windowed-overlap-add OFDM: as ``ofdm_runner``,
     plus the rising transmit and receive ramps (float64 arrays of ``tx``

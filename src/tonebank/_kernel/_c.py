@@ -395,3 +395,4 @@ from ._c_channel import channel_fir  # noqa: E402,F401
 from ._c_fbmc import fbmc_runner  # noqa: E402,F401
 from ._c_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401
 from ._c_papr import slm_runner  # noqa: E402,F401
+from ._c_sync import halves_correlation  # noqa: E402,F401
