@@ -101,10 +101,9 @@ int SFX(tb_fofdm_analyze)(const tb_fofdm_plan *plan, size_t batch, size_t n_symb
                           REAL *b, ptrdiff_t b_batch_stride, ptrdiff_t b_symbol_stride,
                           REAL scale, void *work)
 {
-    const tb_fft_plan *fn, *fm;
-    size_t n, m, taps, q, s, i, k;
-    REAL *w = (REAL *)work, *body, *spec;
-    const REAL inv_m = (REAL)(1.0 / (double)(plan ? plan->m : 1));
+    const tb_fft_plan *fn, *fc;
+    size_t n, nc, edge, q, s, i, k;
+    REAL *w = (REAL *)work, *body, *spec, *corr;
     int st = tb_fofdm_check(plan, PREC, n_symbols, cp, a, b, 0, in, work);
     if (st != TB_OK)
         return st;
@@ -113,53 +112,69 @@ int SFX(tb_fofdm_analyze)(const tb_fofdm_plan *plan, size_t batch, size_t n_symb
                        (n_symbols > 1 && b_symbol_stride == 0))))
         return TB_ERR_ARG;
     fn = plan->fft_n;
-    fm = plan->fft_m;
+    fc = tb_fofdm_corr_plan(plan);
     n = plan->n;
-    m = plan->m;
-    taps = plan->taps;
+    nc = plan->nc;
+    edge = plan->taps - 1; /* L - 1 edge samples */
     if (plan->n_b == 0)
         b = NULL;
     body = w + tb_fofdm_fft_reals(plan);
     spec = body + 2 * n;
+    corr = spec + tb_fofdm_spec_reals(plan);
 
     for (q = 0; q < batch; q++) {
         size_t o = 0;
         for (s = 0; s < n_symbols; s++) {
-            const size_t len = n + taps - 1;
             const REAL *seg = in + 2 * ((ptrdiff_t)q * in_batch_stride +
                                         (ptrdiff_t)(o + cp[s]));
-            REAL *re = w, *im = w + fm->half;
             REAL *da = a + 2 * ((ptrdiff_t)q * a_batch_stride + (ptrdiff_t)s * a_symbol_stride);
-            for (i = 0; i < len; i++) {
-                re[i] = seg[2 * i];
-                im[i] = seg[2 * i + 1];
-            }
-            memset(re + len, 0, (m - len) * sizeof(REAL));
-            memset(im + len, 0, (m - len) * sizeof(REAL));
-            /* matched filter by fast convolution; keep the delayed window */
-            SFX(tb_fft_core_row)(fm, 0, re, im, 1, spec, 1, (REAL)1, w);
-            SFX(fofdm_product)(spec, plan->G, m, re, im);
-            SFX(tb_fft_core_row)(fm, 1, re, im, 1, spec, 1, inv_m, w);
-            /* forward n-point FFT of the window, read in place */
-            {
-                const REAL *win = spec + 2 * (taps - 1);
-                SFX(tb_fft_core_row)(fn, 0, win, win + 1, 2, body, 1, (REAL)1, w);
-            }
-            for (k = 0; k < plan->n_a; k++) {
-                const size_t pos = plan->pos_a[k];
-                const REAL g = scale * (REAL)plan->gain[pos];
-                da[2 * k] = g * body[2 * pos];
-                da[2 * k + 1] = g * body[2 * pos + 1];
-            }
-            if (b != NULL) {
-                REAL *db = b + 2 * ((ptrdiff_t)q * b_batch_stride +
-                                    (ptrdiff_t)s * b_symbol_stride);
-                for (k = 0; k < plan->n_b; k++) {
-                    const size_t pos = plan->pos_b[k];
-                    const REAL g = scale * (REAL)plan->gain[pos];
-                    db[2 * k] = g * body[2 * pos];
-                    db[2 * k + 1] = g * body[2 * pos + 1];
+            REAL *db = b == NULL ? NULL
+                                 : b + 2 * ((ptrdiff_t)q * b_batch_stride +
+                                            (ptrdiff_t)s * b_symbol_stride);
+            /* Y = FFT_n of the window, read in place */
+            SFX(tb_fft_core_row)(fn, 0, seg, seg + 1, 2, body, 1, (REAL)1, w);
+            if (edge > 0) {
+                /* c = correlation of the edge difference e with a, by nc-point
+                 * FFTs: sum_s e[s] W^{-fs} (an unscaled inverse FFT), times
+                 * DFT(a) / nc, inverse FFT again. */
+                REAL *re = w, *im = w + fc->half;
+                for (i = 0; i < edge; i++) {
+                    re[i] = seg[2 * (n + i)] - seg[2 * i];
+                    im[i] = seg[2 * (n + i) + 1] - seg[2 * i + 1];
                 }
+                memset(re + edge, 0, (nc - edge) * sizeof(REAL));
+                memset(im + edge, 0, (nc - edge) * sizeof(REAL));
+                SFX(tb_fft_core_row)(fc, 1, re, im, 1, spec, 1, (REAL)1, w);
+                SFX(fofdm_product)(spec, plan->Ac, nc, re, im);
+                SFX(tb_fft_core_row)(fc, 1, re, im, 1, spec, 1, (REAL)1, w);
+                /* keep lags 1 .. L-1 and take sum_q W^{-kq} c[q] (unscaled
+                 * inverse n-point FFT) */
+                re = w;
+                im = w + fn->half;
+                re[0] = im[0] = 0;
+                for (i = 1; i <= edge; i++) {
+                    re[i] = spec[2 * i];
+                    im[i] = spec[2 * i + 1];
+                }
+                memset(re + edge + 1, 0, (n - edge - 1) * sizeof(REAL));
+                memset(im + edge + 1, 0, (n - edge - 1) * sizeof(REAL));
+                SFX(tb_fft_core_row)(fn, 1, re, im, 1, corr, 1, (REAL)1, w);
+            }
+            /* X_k = A_k Y_k + edge term, gathered with the gain */
+            for (k = 0; k < plan->n_a + (db != NULL ? plan->n_b : 0); k++) {
+                const int in_a = k < plan->n_a;
+                const size_t pos = in_a ? plan->pos_a[k] : plan->pos_b[k - plan->n_a];
+                const REAL g = scale * (REAL)plan->gain[pos];
+                const REAL ar = (REAL)plan->A[2 * pos], ai = (REAL)plan->A[2 * pos + 1];
+                const REAL yr = body[2 * pos], yi = body[2 * pos + 1];
+                REAL xr = ar * yr - ai * yi, xi = ar * yi + ai * yr;
+                REAL *dst = in_a ? da + 2 * k : db + 2 * (k - plan->n_a);
+                if (edge > 0) {
+                    xr += corr[2 * pos];
+                    xi += corr[2 * pos + 1];
+                }
+                dst[0] = g * xr;
+                dst[1] = g * xi;
             }
             o += n + cp[s];
         }

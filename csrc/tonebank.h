@@ -461,9 +461,9 @@ int tb_wola_analyze_f64(const tb_wola_plan *plan, size_t batch, size_t n_symbols
  * tb_ofdm_plan on an n-point transform, a complex FIR filter h of
  * `taps` coefficients (interleaved double pairs) and a convolution size
  * m (2^a 3^b 5^c, m >= n + max cp + taps - 1; the caller chooses it).
- * The plan stores H = DFT_m(h) and G = DFT_m(g), g[t] = conj(h[taps-1-t])
- * (the matched receive filter), and a real gain per FFT position,
- * gain[0 .. n), applied to the gathered receive values.
+ * The plan stores H = DFT_m(h), the response of the matched receive
+ * filter g[t] = conj(h[taps-1-t]) (see tb_fofdm.c), and a real gain per
+ * FFT position, gain[0 .. n), applied to the gathered receive values.
  *
  * Synthesis: symbol s (CP-OFDM symbol of n + cp[s] samples, body scaled
  * by `scale`) is convolved with h and the n + cp[s] + taps - 1 results
@@ -473,13 +473,17 @@ int tb_wola_analyze_f64(const tb_wola_plan *plan, size_t batch, size_t n_symbols
  * FFT, a product with H and one inverse m-point FFT.
  *
  * Analysis: for symbol s the n + taps - 1 samples from o_s + cp[s] are
- * convolved with g (m-point FFTs); outputs taps-1 .. taps-2+n (the
- * symbol's FFT window after both filters' delay) are transformed
- * (forward, n points), multiplied by scale * gain[pos] and gathered.
+ * convolved with g; outputs taps-1 .. taps-2+n (the symbol's FFT window
+ * after both filters' delay) are transformed (forward, n points),
+ * multiplied by scale * gain[pos] and gathered.  (The kernel computes
+ * this as n-point FFTs without convolving; tb_fofdm.c gives the
+ * identity.)
  * Input per signal: sum(n + cp) + taps - 1 samples. */
 typedef struct tb_fofdm_plan tb_fofdm_plan;
 
-/* Errors: as tb_ofdm_plan_create; TB_ERR_SIZE when m is unsupported;
+/* Errors: as tb_ofdm_plan_create; TB_ERR_SIZE when m is unsupported
+ * (or no FFT size of at least 2 taps - 2 points exists for the receive
+ * correlation);
  * TB_ERR_NULL (taps or gain NULL); TB_ERR_ARG when taps == 0 or
  * n + taps - 1 > m. */
 int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,

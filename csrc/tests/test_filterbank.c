@@ -399,6 +399,9 @@ int main(void)
         test_fofdm(16, 32, 9, prec, 5);
         test_fofdm(64, 100, 17, prec, 4);
         test_fofdm(128, 256, 65, prec, 3);
+        test_fofdm(16, 32, 1, prec, 3);    /* no filter edges */
+        test_fofdm(16, 64, 15, prec, 3);   /* longer than half a symbol: nc = 32 */
+        test_fofdm(60, 160, 50, prec, 3);  /* nc = 100, a 2^a 3^b 5^c size */
     }
     {
         tb_wola_plan *p = NULL;

@@ -116,11 +116,16 @@ class FilteredOfdm(CpOfdm):
     prefix, a little of each symbol spills into its neighbours: this sets
     the in-band EVM floor (see the guide).
 
-    Cost per symbol: one FFT of ``fft_size`` points and two of ``m``
-    points, ``m`` at least ``fft_size + max cp + filter_len - 1``: the
-    smallest 2^a 3^b 5^c, or the next power of two when that is at most
-    25 % larger (it transforms faster) (:attr:`convolution_size`); the C
-    kernel does all of it in one fused pass per symbol.
+    Cost per symbol: synthesis takes one FFT of ``fft_size`` points and
+    two of ``m`` points, ``m`` at least ``fft_size + max cp + filter_len -
+    1``: the smallest 2^a 3^b 5^c, or the next power of two when that is
+    at most 25 % larger (it transforms faster) (:attr:`convolution_size`).
+    The C kernel's analysis gets the same numbers (to rounding) from four
+    FFTs of ``fft_size`` points while the filter is at most half a symbol
+    long (as by default): filtering is a product per bin except at the
+    window's edges, whose ``filter_len - 1`` samples it corrects with a
+    short correlation (``csrc/tb_fofdm.c`` writes out the identity).  The
+    C kernel runs each symbol in one fused pass.
 
     Examples
     --------
