@@ -583,3 +583,18 @@ void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double
 {
     TB_PICK(p, lanes_out_f64, (p->n, res, res + p->half, scale, rows, 1));
 }
+
+void tb_fft_core_lanes_store_range_f32(const tb_fft_plan *p, const float *res, size_t first,
+                                       size_t count, float scale, float *const *rows)
+{
+    const float *xr = res + TB_FFT_LANES * first;
+    TB_PICK(p, lanes_out_f32, (count, xr, xr + p->half, scale, rows, 1));
+}
+
+void tb_fft_core_lanes_store_range_f64(const tb_fft_plan *p, const double *res,
+                                       size_t first, size_t count, double scale,
+                                       double *const *rows)
+{
+    const double *xr = res + TB_FFT_LANES * first;
+    TB_PICK(p, lanes_out_f64, (count, xr, xr + p->half, scale, rows, 1));
+}

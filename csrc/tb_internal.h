@@ -85,6 +85,14 @@ void tb_fft_core_lanes_store_f32(const tb_fft_plan *p, const float *res, float s
                                  float *const *rows);
 void tb_fft_core_lanes_store_f64(const tb_fft_plan *p, const double *res, double scale,
                                  double *const *rows);
+/* tb_fft_core_lanes_store_range_*: only elements first .. first+count-1
+ *   (< n) of every lane, to the count interleaved values at rows[r]:
+ *   a gather of a run of bins straight from the lane layout. */
+void tb_fft_core_lanes_store_range_f32(const tb_fft_plan *p, const float *res, size_t first,
+                                       size_t count, float scale, float *const *rows);
+void tb_fft_core_lanes_store_range_f64(const tb_fft_plan *p, const double *res,
+                                       size_t first, size_t count, double scale,
+                                       double *const *rows);
 
 /*
  * The bin tables of a plan: every position < n and none used twice across

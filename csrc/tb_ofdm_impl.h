@@ -90,6 +90,21 @@ static void SFX(gather)(const tb_ofdm_plan *p, const REAL *re, const REAL *im,
         SFX(get_runs)(p->run_b, p->nrun_b, re, im, step, scale, b);
 }
 
+/* The runs of one table from the lane layout res (as returned by
+ * tb_fft_core_lanes_*) to eight outputs, times scale: run values k ..
+ * k+len-1 of lane r go to out[r] + 2k. */
+static void SFX(gather_lanes)(const tb_fft_plan *f, const tb_run *run, size_t nrun,
+                              const REAL *res, REAL scale, REAL *const *out)
+{
+    REAL *dst[TB_FFT_LANES];
+    size_t i, r;
+    for (i = 0; i < nrun; i++) {
+        for (r = 0; r < TB_FFT_LANES; r++)
+            dst[r] = out[r] + 2 * run[i].k;
+        SFX(tb_fft_core_lanes_store_range)(f, res, run[i].pos, run[i].len, scale, dst);
+    }
+}
+
 int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbols,
                             const size_t *cp, const REAL *a, ptrdiff_t a_batch_stride,
                             ptrdiff_t a_symbol_stride, const REAL *b,
@@ -192,7 +207,7 @@ int SFX(tb_ofdm_analyze)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbol
         if (f->lanes && total - done >= L) {
             tb_ofdm_cursor at[TB_FFT_LANES];
             const REAL *body[TB_FFT_LANES];
-            REAL *re, *spare, *spec[TB_FFT_LANES];
+            REAL *re, *out_a[TB_FFT_LANES], *out_b[TB_FFT_LANES];
             size_t r;
             for (r = 0; r < L; r++) {
                 body[r] = in + 2 * ((ptrdiff_t)c.q * in_batch_stride +
@@ -202,18 +217,17 @@ int SFX(tb_ofdm_analyze)(const tb_ofdm_plan *plan, size_t batch, size_t n_symbol
             }
             SFX(tb_fft_core_lanes_load)(f, body, w);
             re = SFX(tb_fft_core_lanes)(f, 0, w);
-            /* the spectra go back to interleaved rows in the workspace
-             * part not holding the result, then the bins are gathered */
-            spare = (re == w) ? w + 2 * f->half : w;
-            for (r = 0; r < L; r++)
-                spec[r] = spare + 2 * n * r;
-            SFX(tb_fft_core_lanes_store)(f, re, (REAL)1, spec);
+            /* each run of wanted bins goes from the lane layout straight
+             * into the eight symbols' outputs (one transpose, no spectrum
+             * rows in between) */
             for (r = 0; r < L; r++) {
                 const ptrdiff_t q = (ptrdiff_t)at[r].q, s = (ptrdiff_t)at[r].s;
-                SFX(gather)(plan, spec[r], spec[r] + 1, 2, scale,
-                            a + 2 * (q * a_batch_stride + s * a_symbol_stride),
-                            b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL);
+                out_a[r] = a + 2 * (q * a_batch_stride + s * a_symbol_stride);
+                out_b[r] = b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL;
             }
+            SFX(gather_lanes)(f, plan->run_a, plan->nrun_a, re, scale, out_a);
+            if (b != NULL)
+                SFX(gather_lanes)(f, plan->run_b, plan->nrun_b, re, scale, out_b);
             done += L;
         } else {
             /* One symbol: the FFT reads the body where it lies (the prefix is

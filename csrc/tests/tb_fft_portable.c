@@ -25,4 +25,6 @@
 #define tb_fft_core_lanes_load_f64 tbport_fft_core_lanes_load_f64
 #define tb_fft_core_lanes_store_f32 tbport_fft_core_lanes_store_f32
 #define tb_fft_core_lanes_store_f64 tbport_fft_core_lanes_store_f64
+#define tb_fft_core_lanes_store_range_f32 tbport_fft_core_lanes_store_range_f32
+#define tb_fft_core_lanes_store_range_f64 tbport_fft_core_lanes_store_range_f64
 #include "../tb_fft.c"
