@@ -786,6 +786,70 @@ def filterbank_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- diversity combining (test_10_combining.py) ----
+
+#: Combining runs on numpy and has no kernel op; the lines under the table
+#: say how far MRC is from one read of its inputs, the best a fused C op
+#: could reach (informational: no target was set for combining).
+COMBINING_METHODS = ("mrc", "mrc_branch_noise", "egc", "selection", "square_law")
+
+
+def combining_report(path: Path, stat: str = "median") -> str:
+    """The combining table: ms per call, Mcells/s, tb / numpy expression, tb / read floor."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    cells = branches = None
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "combining":
+            continue
+        try:
+            key = (str(info["method"]), str(info["dtype"]))
+            rows[key][str(info["impl"])] = float(bench["stats"][stat])
+            cells, branches = int(info["cells"]), int(info["branches"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    head = ["", "Diversity combining (test_10_combining.py)",
+            "------------------------------------------"]
+    if not rows:
+        return "\n".join(head + ["(no combining benchmarks in this run)"])
+    floors = {d: rows.get(("mrc", d), {}).get("read_floor") for _, d in rows}
+    out = []
+    order = {m: i for i, m in enumerate(COMBINING_METHODS)}
+    for method, dtype in sorted(rows, key=lambda k: (k[1], order.get(k[0], 99))):
+        t = rows[method, dtype]
+        tb = t.get("tb")
+        out.append([method, dtype,
+                    "-" if tb is None else f"{tb * 1e3:.2f}",
+                    "-" if t.get("numpy_expr") is None else f"{t['numpy_expr'] * 1e3:.2f}",
+                    "-" if tb is None else f"{cells / tb / 1e6:.0f}",
+                    fmt_ratio(ratio(tb, t.get("numpy_expr"))),
+                    fmt_ratio(ratio(tb, floors.get(dtype)))])
+    lines = head + [
+        f"{stat.capitalize()} time per call in milliseconds, {branches} branches x {cells} "
+        "cells (140 symbols x 1024",
+        "bins; square_law: 140 x 256 cells x 4 tones).  tb = the tonebank.combining",
+        "function (checks, noise variance and SNR out); numpy expr = one bare numpy",
+        "expression of the same combining (no checks, symbols only); read floor = one",
+        "read of received and channel.  Mcell/s = combined cells per second (tb).",
+        "tb/expr and tb/floor: above 1 means tb is slower.  numpy only (no kernel op).",
+        "",
+        table(out, ["method", "dtype", "tb ms", "numpy expr ms", "tb Mcell/s",
+                    "tb/expr", "tb/floor"]),
+        "",
+    ]
+    for dtype in ("complex128", "complex64"):
+        t = rows.get(("mrc", dtype), {})
+        to_floor = ratio(t.get("tb"), floors.get(dtype))
+        to_expr = ratio(t.get("tb"), t.get("numpy_expr"))
+        if to_floor is None:
+            lines.append(f"- MRC {dtype}: n/a (missing from this run)")
+        else:
+            lines.append(f"- MRC {dtype}: tb / read floor = {to_floor:.2f} (a fused C op "
+                         f"could at best reach 1), tb / numpy expr = {fmt_ratio(to_expr)}")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -807,6 +871,7 @@ def main(argv=None) -> int:
     if papr:
         print()
         print(papr)
+    print(combining_report(args.json, args.stat))      # diversity combining
     return 0
 
 

@@ -16,6 +16,7 @@ from ._kernel import (
 from . import (
     amplifier,
     channel,
+    combining,
     equalization,
     estimation,
     metrics,
@@ -78,6 +79,7 @@ __all__ = [
     # modules
     "amplifier",
     "channel",
+    "combining",
     "equalization",
     "estimation",
     "metrics",
