@@ -850,6 +850,52 @@ def combining_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# -- bit loading (test_11_loading.py) ---------------------------------------------
+
+#: Target of the loading work (set by it, no source): water-filling and
+#: Levin-Campello over 4096 tones within this many seconds per call.
+TARGET_LOADING_SECONDS = 10e-3
+
+
+def loading_report(path: Path, stat: str = "median") -> str:
+    """The bit-loading section: time per call of each operation and channel.
+
+    Reads the benchmarks with ``extra_info["kind"] == "loading"``; returns
+    an empty string when the run has none.
+    """
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "loading":
+            continue
+        try:
+            rows.setdefault(str(info["op"]), {})[str(info["case"])] = float(
+                bench["stats"][stat])
+        except (KeyError, TypeError, ValueError):
+            continue
+    if not rows:
+        return ""
+    cases = sorted({case for times in rows.values() for case in times})
+    lines = ["Bit loading (test_11_loading.py)", "--------------------------------",
+             f"{stat.capitalize()} time per call in milliseconds, 4096 tones (numpy only: "
+             "the loading module", "does not use the C kernel); table_map / table_llr: "
+             "14 symbols of the loaded table.", ""]
+    table_rows = [[op] + ["-" if times.get(case) is None else f"{times[case] * 1e3:.2f}"
+                          for case in cases]
+                  for op, times in rows.items()]
+    lines.append(table(table_rows, ["op"] + [f"{case} ms" for case in cases]))
+    lines += ["", "Loading targets", ""]
+    for op in ("water_filling", "levin_campello"):
+        for case in cases:
+            t = rows.get(op, {}).get(case)
+            verdict = ("not measured" if t is None else
+                       f"{t * 1e3:.2f} ms {'MET' if t <= TARGET_LOADING_SECONDS else 'NOT MET'}")
+            lines.append(f"  {op} n=4096 {case} <= {TARGET_LOADING_SECONDS * 1e3:.0f} ms: "
+                         f"{verdict}")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -871,7 +917,12 @@ def main(argv=None) -> int:
     if papr:
         print()
         print(papr)
+    print()
     print(combining_report(args.json, args.stat))      # diversity combining
+    loading_section = loading_report(args.json, args.stat)   # water-filling, bit loading
+    if loading_section:
+        print()
+        print(loading_section)
     return 0
 
 

@@ -25,6 +25,13 @@ library uses it.
   each other: a data stream ``d`` of length ``n_symbols * n_data`` puts
   ``d[s * n_data + i]`` on the ``i``-th lowest data subcarrier of symbol
   ``s``.  Pilots are ordered the same way.
+* **Bit order of a loaded plan** (``loading=``, a
+  :class:`~tonebank.loading.BitTable` with one entry per data
+  subcarrier): a bit stream fills symbol after symbol, inside a symbol
+  data subcarrier after data subcarrier in the data order above, each
+  taking its table's bit count (most significant label bit first; empty
+  subcarriers take none).  :meth:`~tonebank.CarrierPlan.place_bits` and
+  :meth:`~tonebank.CarrierPlan.llr` use this order.
 """
 
 from __future__ import annotations
@@ -36,6 +43,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from ._checks import integer
+from .loading import BitTable
 
 __all__ = ["CarrierPlan"]
 
@@ -98,6 +106,11 @@ class CarrierPlan:
         subcarrier spacing and durations.
     name : str, optional
         A label for printing.
+    loading : tonebank.loading.BitTable, optional
+        Adaptive modulation: bits and energy per data subcarrier (its
+        ``n_tones`` must equal ``n_data``), from the loaders of
+        :mod:`tonebank.loading`.  It drives :meth:`place_bits` and
+        :meth:`llr`; :meth:`place` and :meth:`take` are unchanged.
 
     Attributes
     ----------
@@ -116,6 +129,8 @@ class CarrierPlan:
         Its average over one period.
     pilot_pattern : tonebank.PilotPattern
         The fixed pilots as a pilot pattern (for the channel estimators).
+    loading : tonebank.loading.BitTable or None
+        The per-subcarrier bit table, if any.
 
     Raises
     ------
@@ -124,7 +139,7 @@ class CarrierPlan:
         than ``n_fft``; pilot values of the wrong shape or not finite;
         non-positive sample rate.
     TypeError
-        Non-integer sizes or indices.
+        Non-integer sizes or indices; ``loading`` not a ``BitTable``.
 
     See Also
     --------
@@ -143,11 +158,12 @@ class CarrierPlan:
     """
 
     __slots__ = ("_n_fft", "_data", "_pilots", "_pilot_values", "_cp", "_sample_rate",
-                 "_name", "_data_bins", "_pilot_bins", "_null_bins", "_pattern")
+                 "_name", "_data_bins", "_pilot_bins", "_null_bins", "_pattern",
+                 "_loading")
 
     def __init__(self, n_fft: int, *, data, pilots=(), pilot_values=None,
                  cp_length: int | Sequence[int] = 0, sample_rate: float | None = None,
-                 name: str | None = None):
+                 name: str | None = None, loading=None):
         n_fft = integer(n_fft, "n_fft", minimum=1)
         data = _subcarrier_set(data, "data", n_fft)
         pilots = _subcarrier_set(pilots, "pilots", n_fft)
@@ -198,6 +214,13 @@ class CarrierPlan:
                 raise ValueError(f"sample_rate must be positive and finite, got {sample_rate}")
         if name is not None and not isinstance(name, str):
             raise TypeError(f"name must be a string, got {name!r}")
+        if loading is not None:
+            if not isinstance(loading, BitTable):
+                raise TypeError(f"loading must be a tonebank.loading.BitTable or None, "
+                                f"got {type(loading).__name__}")
+            if loading.n_tones != data.size:
+                raise ValueError(f"loading has {loading.n_tones} tones but the plan has "
+                                 f"n_data={data.size} data subcarriers; they must match")
 
         self._n_fft = n_fft
         self._data = data
@@ -213,6 +236,7 @@ class CarrierPlan:
         used[self._pilot_bins] = True
         self._null_bins = _readonly(np.flatnonzero(~used).astype(np.intp))
         self._pattern = None
+        self._loading = loading
 
     # ---- alternative constructors -------------------------------------------
 
@@ -300,7 +324,8 @@ class CarrierPlan:
         **changes
             Any keyword of :class:`CarrierPlan` (``n_fft``, ``data``,
             ``pilots``, ``pilot_values``, ``cp_length``, ``sample_rate``,
-            ``name``).
+            ``name``, ``loading``).  A plan's loading is kept unless
+            changed (or unless ``data`` changes: then it is dropped).
 
         Returns
         -------
@@ -315,13 +340,16 @@ class CarrierPlan:
         """
         args = dict(n_fft=self._n_fft, data=self._data, pilots=self._pilots,
                     pilot_values=self._pilot_values, cp_length=self._cp,
-                    sample_rate=self._sample_rate, name=self._name)
+                    sample_rate=self._sample_rate, name=self._name,
+                    loading=self._loading)
         unknown = set(changes) - set(args)
         if unknown:
             raise TypeError(f"replace() got unknown argument(s) {sorted(unknown)}; "
                             f"allowed: {sorted(args)}")
         if "pilots" in changes and "pilot_values" not in changes:
             args["pilot_values"] = None
+        if "data" in changes and "loading" not in changes:
+            args["loading"] = None
         args.update(changes)
         n_fft = args.pop("n_fft")
         return CarrierPlan(n_fft, **args)
@@ -408,6 +436,11 @@ class CarrierPlan:
     def name(self) -> str | None:
         """The plan's label, if any."""
         return self._name
+
+    @property
+    def loading(self):
+        """The per-data-subcarrier :class:`~tonebank.loading.BitTable`, or None."""
+        return self._loading
 
     # ---- time and frequency --------------------------------------------------
 
@@ -604,12 +637,109 @@ class CarrierPlan:
         data = grid[..., self._data_bins].reshape(lead + (-1,))
         return data, grid[..., self._pilot_bins]
 
+    # ---- adaptive modulation (a loaded plan) ------------------------------------
+
+    def _table(self, what: str):
+        if self._loading is None:
+            raise ValueError(f"{what} needs a loaded plan; make it with "
+                             "loading=<tonebank.loading.BitTable> (see plan.replace)")
+        return self._loading
+
+    def place_bits(self, bits, pilots=None, *, start_symbol: int = 0,
+                   dtype=np.complex128) -> np.ndarray:
+        """Build the frequency grid from a bit stream, by the plan's loading.
+
+        Each data subcarrier carries its table's bit count on its
+        constellation, scaled by its gain; empty ones are zero.  The same as
+        ``place(loading.map(bits), pilots, start_symbol=...)``.
+
+        Parameters
+        ----------
+        bits : array_like of int or bool
+            Shape ``(..., n_symbols * loading.bits_per_symbol)``, values
+            0/1, in the bit order of the module notes.
+        pilots : array_like of complex, optional
+            As for :meth:`place`.
+        start_symbol : int, default 0
+            As for :meth:`place`.
+        dtype : {numpy.complex128, numpy.complex64}, optional
+            Grid dtype.
+
+        Returns
+        -------
+        ndarray
+            Shape ``(..., n_symbols, n_fft)``.
+
+        Raises
+        ------
+        ValueError
+            The plan has no loading; the bits do not fill whole symbols (the
+            message gives the padding) or hold values other than 0/1.
+        TypeError
+            Bits not of a boolean or integer dtype.
+
+        Examples
+        --------
+        >>> import numpy as np, tonebank
+        >>> from tonebank.loading import BitTable
+        >>> plan = tonebank.CarrierPlan(8, data=[-2, -1, 1, 2],
+        ...                             loading=BitTable([2, 0, 1, 4]))
+        >>> grid = plan.place_bits(np.ones(2 * 7, dtype=int))
+        >>> grid.shape, complex(grid[0, 7])      # subcarrier -1 is empty
+        ((2, 8), 0j)
+        """
+        table = self._table("place_bits")
+        return self.place(table.map(bits, dtype=dtype), pilots, start_symbol=start_symbol)
+
+    def llr(self, data, noise_var, *, exact: bool = False) -> np.ndarray:
+        """Per-bit LLRs of equalised data cells, by the plan's loading.
+
+        Parameters
+        ----------
+        data : array_like of complex
+            Equalised data cells, shape ``(..., n_symbols * n_data)`` (as
+            :meth:`take` returns them after equalisation).
+        noise_var : float or array_like of float
+            Noise variance of each equalised cell: a scalar, shape
+            ``(n_data,)`` (per subcarrier) or broadcastable to ``data``.
+        exact : bool, optional
+            Exact log-sum-exp instead of max-log.
+
+        Returns
+        -------
+        ndarray
+            Shape ``(..., n_symbols * loading.bits_per_symbol)`` in
+            :meth:`place_bits`'s bit order; float32 for complex64 data,
+            float64 otherwise.  Positive values favour 0.
+
+        Raises
+        ------
+        ValueError, TypeError
+            No loading; bad data or noise variances.
+
+        See Also
+        --------
+        tonebank.loading.BitTable.llr : the same on a table alone.
+
+        Examples
+        --------
+        >>> import numpy as np, tonebank
+        >>> from tonebank.loading import BitTable
+        >>> plan = tonebank.CarrierPlan(8, data=[-2, -1, 1, 2],
+        ...                             loading=BitTable([2, 0, 1, 4]))
+        >>> bits = np.random.default_rng(5).integers(0, 2, 3 * 7)
+        >>> data, _ = plan.take(plan.place_bits(bits))
+        >>> bool(np.array_equal(plan.llr(data, 0.01) < 0, bits == 1))
+        True
+        """
+        return self._table("llr").llr(data, noise_var, exact=exact)
+
     # ---- printing and comparison ---------------------------------------------
 
     def _key(self):
         return (self._n_fft, self._data.tobytes(), self._pilots.tobytes(),
                 self._pilot_values.shape, self._pilot_values.tobytes(), self._cp,
-                self._sample_rate, self._name)
+                self._sample_rate, self._name, self._loading)
 
     def __eq__(self, other):
         if not isinstance(other, CarrierPlan):
@@ -623,5 +753,7 @@ class CarrierPlan:
         label = f"{self._name!r}, " if self._name else ""
         rate = f", sample_rate={self._sample_rate:g}" if self._sample_rate else ""
         cp = self._cp[0] if len(self._cp) == 1 else list(self._cp)
+        loaded = ("" if self._loading is None else
+                  f", loading={self._loading.bits_per_symbol} bits/symbol")
         return (f"CarrierPlan({label}n_fft={self._n_fft}, n_data={self.n_data}, "
-                f"n_pilots={self.n_pilots}, cp_length={cp}{rate})")
+                f"n_pilots={self.n_pilots}, cp_length={cp}{rate}{loaded})")
