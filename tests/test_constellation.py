@@ -534,3 +534,50 @@ def test_noise_var_errors():
         c.llr(y, np.ones(3))                 # does not broadcast
     with pytest.raises(ValueError, match="noise_var has shape"):
         c.llr(y, np.ones((2, 3, 4)))         # would enlarge the result
+
+
+# -- rectangular QAM -------------------------------------------------------------
+
+
+@pytest.mark.parametrize("levels_i, levels_q", [(4, 2), (8, 4), (16, 8), (2, 4), (128, 128)])
+def test_rectangular_qam_gray_grid(levels_i, levels_q):
+    """Unit energy (the mean of a PAM grid's squared levels is (L^2 - 1) / 3 per
+    axis, common practice, no source), Gray labels (neighbours on either axis
+    differ in one bit), and pickling by level counts."""
+    import pickle
+
+    qam = Constellation.rectangular_qam(levels_i, levels_q)
+    m = levels_i * levels_q
+    assert qam.order == m and qam.bits_per_symbol == int(np.log2(m))
+    np.testing.assert_allclose(np.mean(np.abs(qam.points) ** 2), 1.0, rtol=1e-12)
+    step = 2.0 / np.sqrt((levels_i**2 - 1) / 3 + (levels_q**2 - 1) / 3)
+    labels = np.arange(m)
+    pts = qam.points
+    for a in labels[:512]:      # enough cells to reach every row and column pattern
+        near = np.flatnonzero(np.isclose(np.abs(pts - pts[a]), step, rtol=1e-9))
+        assert near.size >= 2
+        assert all(bin(int(a) ^ int(b)).count("1") == 1 for b in near)
+    again = pickle.loads(pickle.dumps(qam))
+    assert again == qam and again.name == qam.name
+    # the per-axis LLRs agree with the exhaustive max-log search
+    rng = np.random.default_rng(2)
+    y = qam.map(rng.integers(0, 2, 40 * qam.bits_per_symbol)) + 0.1 * (
+        rng.standard_normal(40) + 1j * rng.standard_normal(40))
+    generic = Constellation(qam.points)
+    np.testing.assert_allclose(qam.llr(y, 0.05), generic.llr(y, 0.05), rtol=1e-9, atol=1e-9)
+
+
+def test_rectangular_qam_equal_axes_is_square_qam():
+    assert Constellation.rectangular_qam(8, 8) == Constellation.qam(64)
+    assert Constellation.rectangular_qam(8, 8).name == "64-QAM"
+
+
+@pytest.mark.parametrize("args, error, words", [
+    ((3, 2), ValueError, "levels_i=3 must be a power of two"),
+    ((2, 2048), ValueError, "levels_q=2048"),
+    ((1, 2), ValueError, "levels_i=1"),
+    ((2.0, 2), TypeError, "levels_i"),
+])
+def test_rectangular_qam_bad_levels(args, error, words):
+    with pytest.raises(error, match=words):
+        Constellation.rectangular_qam(*args)

@@ -436,6 +436,69 @@ class Constellation:
         return cls._square(levels, levels, f"{m}-QAM")
 
     @classmethod
+    def rectangular_qam(cls, levels_i, levels_q) -> Constellation:
+        """Gray-coded QAM with ``levels_i`` in-phase and ``levels_q`` quadrature levels.
+
+        The odd-bit orders (8, 32, 128 ... points) that square QAM cannot
+        give, for bit loading, and square orders beyond :meth:`qam`'s.
+
+        Parameters
+        ----------
+        levels_i, levels_q : int
+            Levels per axis, each a power of two from 2 to 2**10.
+
+        Returns
+        -------
+        Constellation
+            Unit average energy, named ``"<M>-QAM (<levels_i>x<levels_q>)"``
+            (``"<M>-QAM"`` when the axes are equal, the same points as
+            ``qam(M)`` for its orders).
+
+        Raises
+        ------
+        TypeError
+            If a level count is not an integer.
+        ValueError
+            If a level count is not a power of two in the allowed range.
+
+        See Also
+        --------
+        qam : the square orders.
+
+        Notes
+        -----
+        The first ``log2(levels_i)`` bits select the in-phase level and the
+        rest the quadrature level, each through the binary-reflected Gray
+        code as in :meth:`qam`.  Levels are ``K (2j - (L - 1))`` on each axis
+        with ``K = 1 / sqrt((levels_i**2 - 1) / 3 + (levels_q**2 - 1) / 3)``
+        for unit average energy.  A rectangular grid has a little less
+        minimum distance for its energy than a cross-shaped one of the same
+        order; it keeps Gray labels on both axes and the per-axis LLRs.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> from tonebank.constellation import Constellation
+        >>> qam8 = Constellation.rectangular_qam(4, 2)
+        >>> qam8.name, qam8.bits_per_symbol
+        ('8-QAM (4x2)', 3)
+        >>> round(float(np.mean(abs(qam8.points) ** 2)), 12)
+        1.0
+        """
+        levels = []
+        for name, value in (("levels_i", levels_i), ("levels_q", levels_q)):
+            value = integer(value, name)
+            if value < 2 or value > 2**10 or value & (value - 1):
+                raise ValueError(f"{name}={value} must be a power of two from 2 to 1024")
+            levels.append(value)
+        levels_i, levels_q = levels
+        m = levels_i * levels_q
+        if levels_i == levels_q and m in QAM_ORDERS:
+            return cls.qam(m)
+        shape = "" if levels_i == levels_q else f" ({levels_i}x{levels_q})"
+        return cls._square(levels_i, levels_q, f"{m}-QAM{shape}")
+
+    @classmethod
     def psk(cls, m, *, phase_offset=None) -> Constellation:
         """Gray-coded M-PSK on the unit circle.
 
@@ -522,8 +585,9 @@ class Constellation:
     def __reduce__(self):
         # Pickle through the public constructor: the fast paths are rebuilt
         # by name where a classmethod made them.
+        levels = tuple(axis.levels for axis in self._axes)
         return (_rebuild, (self._kind, self._name, self._psk_offset,
-                           np.array(self._points)))
+                           np.array(self._points), levels))
 
     @property
     def points(self) -> np.ndarray:
@@ -975,12 +1039,14 @@ def _squared_distances(y: np.ndarray, points: np.ndarray) -> np.ndarray:
     return dr
 
 
-def _rebuild(kind, name, offset, points):
+def _rebuild(kind, name, offset, points, levels=()):
     if kind == "square":
         if name == "BPSK":
             return Constellation.bpsk()
         if name == "QPSK":
             return Constellation.qpsk()
+        if len(levels) == 2:
+            return Constellation.rectangular_qam(*levels)
         return Constellation.qam(points.size)
     if kind == "psk":
         return Constellation.psk(points.size, phase_offset=offset)

@@ -425,21 +425,6 @@ def snr_gap_db(symbol_error_rate=1e-7, *, coding_gain_db: float = 0.0,
 # -- per-tone constellations and the bit table -------------------------------------
 
 
-class _ToneQam(Constellation):
-    """Gray QAM beyond the built-in orders (rectangular, or square above 4096).
-
-    Built by the square-QAM builder of :class:`Constellation` with unequal
-    axes, so the per-axis LLR fast path applies; pickles as
-    ``tone_constellation(bits)`` because ``Constellation``'s own pickling
-    rebuilds square QAM by order, which knows only the built-in ones.
-    """
-
-    __slots__ = ()
-
-    def __reduce__(self):
-        return (tone_constellation, (self.bits_per_symbol,))
-
-
 @functools.lru_cache(maxsize=None)
 def _constellation(bits: int) -> Constellation:
     if bits == 1:
@@ -447,11 +432,8 @@ def _constellation(bits: int) -> Constellation:
     if bits % 2 == 0 and 2**bits <= 4096:
         return Constellation.qam(2**bits)
     # Larger square and all rectangular orders: Gray PAM on each axis,
-    # the I axis taking the extra bit (the square builder of
-    # constellation.py accepts unequal axes).
-    levels_i, levels_q = 2 ** ((bits + 1) // 2), 2 ** (bits // 2)
-    shape = "" if levels_i == levels_q else f" ({levels_i}x{levels_q})"
-    return _ToneQam._square(levels_i, levels_q, f"{2**bits}-QAM{shape}")
+    # the I axis taking the extra bit.
+    return Constellation.rectangular_qam(2 ** ((bits + 1) // 2), 2 ** (bits // 2))
 
 
 def tone_constellation(bits) -> Constellation:
