@@ -896,6 +896,68 @@ def loading_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- receiver impairments (test_13_impairments.py) ----
+
+#: Target: each impairment stage at most this many times slower than the plain
+#: numpy expression of the same model (the price of bit-identical streaming).
+TARGET_IMPAIRMENT_OVERHEAD = 2.5
+#: Target: TimingOffset on the C backend at least this many times faster than on
+#: the numpy backend (the kernel op channel_fir).
+TARGET_IMPAIRMENT_TIMING_SPEEDUP = 3.0
+
+
+def impairments_report(path: Path, stat: str = "median") -> str:
+    """The receiver-impairment table (throughput, ratios) and its target lines."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    sizes: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "impairments":
+            continue
+        try:
+            rows[str(info["stage"])][str(info["impl"])] = float(bench["stats"][stat])
+            sizes[str(info["stage"])] = int(info["n"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Receiver impairments (test_13_impairments.py)",
+             "---------------------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no impairment benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} time per call in milliseconds, complex128, one filter() call",
+        "on n samples.  tb = the library stage (C backend where it has a kernel op),",
+        "numpy_ref = the plain numpy expression of the model, tb_numpy = the library stage",
+        "on the numpy backend, lfilter / resample_poly = scipy.signal.  Msa/s = n / time;",
+        "ratio = time / time of the reference named (above 1: the library is slower).",
+        "",
+    ]
+    table_rows = []
+    for stage in ("cfo", "phase_noise", "iq", "timing", "sco"):
+        for impl, t in sorted(rows.get(stage, {}).items()):
+            ref_name = {"timing": "lfilter", "sco": "resample_poly"}.get(stage, "numpy_ref")
+            ref = rows[stage].get(ref_name)
+            table_rows.append([stage, impl, f"{t * 1e3:.1f}", f"{sizes[stage] / t / 1e6:.1f}",
+                               ref_name, fmt_ratio(ratio(t, ref))])
+    lines.append(table(table_rows, ["stage", "impl", "ms", "Msa/s", "versus", "ratio"]))
+    lines += ["", "Impairment targets"]
+    for stage, impl in (("cfo", "tb"), ("phase_noise", "tb"), ("phase_noise", "tb_psd"),
+                        ("iq", "tb")):
+        value = ratio(rows.get(stage, {}).get(impl), rows.get(stage, {}).get("numpy_ref"))
+        verdict = "n/a" if value is None else (
+            "MET" if value <= TARGET_IMPAIRMENT_OVERHEAD else "MISSED")
+        lines.append(f"- {stage} {impl} / numpy_ref <= {TARGET_IMPAIRMENT_OVERHEAD:g}: "
+                     f"{fmt_ratio(value)} {verdict}")
+    timing = rows.get("timing", {})
+    speed = ratio(timing.get("tb_numpy"), timing.get("tb_c"))
+    verdict = "n/a" if speed is None else (
+        "MET" if speed >= TARGET_IMPAIRMENT_TIMING_SPEEDUP else "MISSED")
+    lines.append(f"- timing: numpy backend / C >= {TARGET_IMPAIRMENT_TIMING_SPEEDUP:g}: "
+                 f"{fmt_ratio(speed)} {verdict}")
+    lines.append("- sco: no target (numpy only; a C kernel op is the next step if it matters)")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -913,6 +975,7 @@ def main(argv=None) -> int:
     print(fbmc_report(args.json, args.stat))           # FBMC/OQAM
     print(channel_report(args.json, args.stat))        # channel convolution
     print(estimation_report(args.json, args.stat))     # channel estimation
+    print(impairments_report(args.json, args.stat))    # receiver impairments
     papr = papr_report(args.json, args.stat)           # selective mapping, CCDF
     if papr:
         print()

@@ -91,3 +91,27 @@ __all__ = [
     "theory",
     "__version__",
 ]
+
+# ---- receiver impairments and IQ imbalance ----
+from . import sync  # noqa: E402
+from .channel import (  # noqa: E402
+    DcOffset,
+    FrequencyOffset,
+    IqImbalance,
+    PhaseNoise,
+    SamplingClockOffset,
+    SignalChain,
+    TimingOffset,
+)
+
+__all__ += [
+    "DcOffset",
+    "FrequencyOffset",
+    "IqImbalance",
+    "PhaseNoise",
+    "SamplingClockOffset",
+    "SignalChain",
+    "TimingOffset",
+    "sync",
+]
+# ---- end receiver impairments ----
