@@ -22,6 +22,7 @@ from . import (
     papr,
     presets,
     spectrum,
+    sync,
     theory,
 )
 from .channel import DelayProfile, TappedDelayLine
@@ -84,6 +85,7 @@ __all__ = [
     "papr",
     "presets",
     "spectrum",
+    "sync",
     "theory",
     "__version__",
 ]
