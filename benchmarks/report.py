@@ -958,6 +958,65 @@ def impairments_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- synchronisation (test_12_sync.py) ----
+
+#: Target of the synchronisation op (set by the sync work, no source): the
+#: timing metric over 10^6 samples at least this many times faster on the
+#: C backend than on the numpy backend.
+TARGET_SYNC_SPEEDUP = 3.0
+
+
+def sync_report(path: Path, stat: str = "median") -> str:
+    """The synchronisation section: timing metric (C, numpy, numpy.convolve) and receiver throughput."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    sizes: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        kind = info.get("kind")
+        if kind not in ("sync_metric", "sync_op", "sync_naive", "sync_receiver"):
+            continue
+        try:
+            key = ("receiver" if kind == "sync_receiver" else "metric", str(info["case"]))
+            rows[key][str(info["impl"])] = float(bench["stats"][stat])
+            sizes[key] = int(info["n"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Synchronisation (test_12_sync.py)", "---------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no synchronisation benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} time per call in milliseconds.  metric = sync.timing_metric over",
+        "10^6 samples (period = window = 32); C op = halves_correlation alone; convolve =",
+        "numpy.convolve of the lag products with a box (what a user writes without the op);",
+        "receiver = FrameReceiver.receive on 20 frames of 20 16-QAM symbols (64-point plan).",
+        "Msa/s = samples per call / time; numpy/C = numpy backend time / C time.",
+        "",
+    ]
+    table_rows = []
+    for key in sorted(rows):
+        t = rows[key]
+        c, npy = t.get("tb_c"), t.get("tb_numpy")
+        fmt = lambda v: "-" if v is None else f"{v * 1e3:.1f}"  # noqa: E731
+        table_rows.append([key[0], key[1], fmt(c), fmt(t.get("kernel_c")), fmt(npy),
+                           fmt(t.get("numpy_convolve")),
+                           "-" if not c else f"{sizes[key] / c / 1e6:.2f}",
+                           "-" if not npy else f"{sizes[key] / npy / 1e6:.2f}",
+                           fmt_ratio(ratio(npy, c))])
+    lines.append(table(table_rows, ["what", "case", "C ms", "C op ms", "numpy ms",
+                                    "convolve ms", "C Msa/s", "numpy Msa/s", "numpy/C"]))
+    metric = rows.get(("metric", "second_half"), {})
+    speedup = ratio(metric.get("tb_numpy"), metric.get("tb_c"))
+    lines += ["", "Synchronisation target"]
+    if speedup is None:
+        lines.append("  timing metric 10^6 samples, numpy/C: n/a (missing from this run)")
+    else:
+        ok = "MET" if speedup >= TARGET_SYNC_SPEEDUP else "MISSED"
+        lines.append(f"  timing metric 10^6 samples, numpy/C >= {TARGET_SYNC_SPEEDUP:g}: "
+                     f"{speedup:.2f} {ok}")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -975,7 +1034,6 @@ def main(argv=None) -> int:
     print(fbmc_report(args.json, args.stat))           # FBMC/OQAM
     print(channel_report(args.json, args.stat))        # channel convolution
     print(estimation_report(args.json, args.stat))     # channel estimation
-    print(impairments_report(args.json, args.stat))    # receiver impairments
     papr = papr_report(args.json, args.stat)           # selective mapping, CCDF
     if papr:
         print()
@@ -986,6 +1044,8 @@ def main(argv=None) -> int:
     if loading_section:
         print()
         print(loading_section)
+    print(sync_report(args.json, args.stat))           # synchronisation
+    print(impairments_report(args.json, args.stat))    # receiver impairments
     return 0
 
 

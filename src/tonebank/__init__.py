@@ -24,6 +24,7 @@ from . import (
     papr,
     presets,
     spectrum,
+    sync,
     theory,
 )
 from .channel import DelayProfile, TappedDelayLine
@@ -88,6 +89,7 @@ __all__ = [
     "papr",
     "presets",
     "spectrum",
+    "sync",
     "theory",
     "__version__",
 ]
