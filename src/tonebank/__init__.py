@@ -27,7 +27,17 @@ from . import (
     sync,
     theory,
 )
-from .channel import DelayProfile, TappedDelayLine
+from .channel import (
+    DcOffset,
+    DelayProfile,
+    FrequencyOffset,
+    IqImbalance,
+    PhaseNoise,
+    SamplingClockOffset,
+    SignalChain,
+    TappedDelayLine,
+    TimingOffset,
+)
 from .constellation import Constellation
 from .pilots import PilotPattern
 from .plan import CarrierPlan
@@ -75,9 +85,16 @@ __all__ = [
     "phydyas_coefficients",
     "phydyas_prototype",
     "subband_interference",
-    # channels
+    # channels and receiver impairments
+    "DcOffset",
     "DelayProfile",
+    "FrequencyOffset",
+    "IqImbalance",
+    "PhaseNoise",
+    "SamplingClockOffset",
+    "SignalChain",
     "TappedDelayLine",
+    "TimingOffset",
     # modules
     "amplifier",
     "channel",
@@ -93,27 +110,3 @@ __all__ = [
     "theory",
     "__version__",
 ]
-
-# ---- receiver impairments and IQ imbalance ----
-from . import sync  # noqa: E402
-from .channel import (  # noqa: E402
-    DcOffset,
-    FrequencyOffset,
-    IqImbalance,
-    PhaseNoise,
-    SamplingClockOffset,
-    SignalChain,
-    TimingOffset,
-)
-
-__all__ += [
-    "DcOffset",
-    "FrequencyOffset",
-    "IqImbalance",
-    "PhaseNoise",
-    "SamplingClockOffset",
-    "SignalChain",
-    "TimingOffset",
-    "sync",
-]
-# ---- end receiver impairments ----

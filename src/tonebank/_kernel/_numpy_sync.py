@@ -90,13 +90,16 @@ def halves_correlation(x, period, window) -> tuple[np.ndarray, np.ndarray]:
         # step d -> d + 1 adds pair d + window and drops pair d; the step
         # into a block start is replaced by that block's direct sum
         n_blocks = starts.size
-        steps_q = np.zeros((n_rows, n_blocks * BLOCK), np.complex128)
-        steps_e = np.zeros((n_rows, n_blocks * BLOCK), np.float64)
+        # one block of n_out when that is all there is: short rows are not
+        # padded to a whole block (many short rows would cost BLOCK each)
+        width = BLOCK if n_blocks > 1 else n_out
+        steps_q = np.zeros((n_rows, n_blocks * width), np.complex128)
+        steps_e = np.zeros((n_rows, n_blocks * width), np.float64)
         steps_q[:, 1:n_out] = q[:, window:window + n_out - 1] - q[:, :n_out - 1]
         steps_e[:, 1:n_out] = e[:, window:window + n_out - 1] - e[:, :n_out - 1]
         steps_q[:, starts] = direct_q
         steps_e[:, starts] = direct_e
-        shape = (n_rows, n_blocks, BLOCK)
+        shape = (n_rows, n_blocks, width)
         p[...] = np.cumsum(steps_q.reshape(shape), axis=2).reshape(n_rows, -1)[:, :n_out]
         r[...] = np.cumsum(steps_e.reshape(shape), axis=2).reshape(n_rows, -1)[:, :n_out]
     return (p.astype(x.dtype, copy=False).reshape(lead + (n_out,)),
