@@ -83,8 +83,8 @@ import numbers
 import numpy as np
 
 from .. import _kernel
-from .._checks import generator, integer
-from .tdl import _KAISER_BETA, _real, _signal_dtype
+from .._checks import generator, integer, plan_of, real
+from .tdl import _KAISER_BETA, _signal_dtype
 
 __all__ = [
     "DcOffset",
@@ -356,14 +356,14 @@ class FrequencyOffset(Impairment):
     """
 
     def __init__(self, offset_hz, sample_rate, *, phase_rad=0.0):
-        fs = _real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
-        f = _real(offset_hz, "offset_hz")
+        fs = real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
+        f = real(offset_hz, "offset_hz")
         if not abs(f) < fs / 2:
             raise ValueError(f"offset_hz={offset_hz!r} is not allowed; need |offset_hz| < "
                              f"sample_rate / 2 = {fs / 2:g} Hz")
         self._f = f
         self._fs = fs
-        self._phase0 = _real(phase_rad, "phase_rad")
+        self._phase0 = real(phase_rad, "phase_rad")
         super().__init__()
 
     @classmethod
@@ -403,7 +403,7 @@ class FrequencyOffset(Impairment):
         >>> FrequencyOffset.in_spacings(0.1, plan).offset_hz
         31250.0
         """
-        eps = _real(epsilon, "epsilon")
+        eps = real(epsilon, "epsilon")
         fs, spacing = _plan_rates(target)
         return cls(eps * spacing, fs, phase_rad=phase_rad)
 
@@ -428,21 +428,7 @@ class FrequencyOffset(Impairment):
 
 def _plan_rates(target) -> tuple[float, float]:
     """``(signal sample rate, subcarrier spacing)`` of a plan or waveform."""
-    from ..plan import CarrierPlan
-
-    if isinstance(target, CarrierPlan):
-        plan, oversampling = target, 1
-    elif hasattr(target, "plan") and hasattr(target, "fft_size") \
-            and isinstance(target.plan, CarrierPlan):
-        plan = target.plan
-        size = integer(target.fft_size, "target.fft_size", minimum=1)
-        oversampling, rest = divmod(size, plan.n_fft)
-        if rest or oversampling < 1:
-            raise ValueError(f"target.fft_size={size} is not a multiple of the plan's "
-                             f"n_fft={plan.n_fft}")
-    else:
-        raise TypeError(f"target must be a tonebank.CarrierPlan or a waveform with plan and "
-                        f"fft_size; got {type(target).__name__}")
+    plan, oversampling = plan_of(target)
     if plan.sample_rate is None:
         raise ValueError("target's plan has no sample_rate; give the plan a sample_rate or "
                          "use FrequencyOffset(offset_hz, sample_rate)")
@@ -505,8 +491,8 @@ class PhaseNoise(Impairment):
     """
 
     def __init__(self, linewidth_hz, sample_rate, *, rng=None):
-        fs = _real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
-        self._beta = _real(linewidth_hz, "linewidth_hz", minimum=0.0)
+        fs = real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
+        self._beta = real(linewidth_hz, "linewidth_hz", minimum=0.0)
         self._fs = fs
         self._sigma = math.sqrt(2 * math.pi * self._beta / fs)
         self._shaping = None             # FIR spectrum of the PSD mode (see from_psd)
@@ -579,7 +565,7 @@ class PhaseNoise(Impairment):
         >>> pn.phase(np.arange(3)).shape, pn.linewidth_hz
         ((3,), None)
         """
-        fs = _real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
+        fs = real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
         try:
             f = np.asarray(offsets_hz, dtype=np.float64)
             level = np.asarray(level_dbc_hz, dtype=np.float64)
@@ -769,8 +755,8 @@ class IqImbalance(Impairment):
     """
 
     def __init__(self, gain_db=0.0, phase_deg=0.0):
-        g_db = _real(gain_db, "gain_db")
-        phi_deg = _real(phase_deg, "phase_deg")
+        g_db = real(gain_db, "gain_db")
+        phi_deg = real(phase_deg, "phase_deg")
         if not abs(phi_deg) < 90.0:
             raise ValueError(f"phase_deg={phase_deg!r} is not allowed; need |phase_deg| < 90")
         g = 10.0 ** (g_db / 20.0)
@@ -804,12 +790,12 @@ class IqImbalance(Impairment):
     def _run(self, x, start, state):
         # mu x + nu x* in real arithmetic (see _cmul for why):
         # Re y = (mu_r + nu_r) a + (nu_i - mu_i) b, Im y = (mu_i + nu_i) a + (mu_r - nu_r) b
-        real = x.real.dtype.type
+        scalar = x.real.dtype.type          # float32 coefficients for complex64
         mu, nu = self._mu, self._nu
         a, b = x.real, x.imag
         y = np.empty_like(x)
-        y.real = real(mu.real + nu.real) * a + real(nu.imag - mu.imag) * b
-        y.imag = real(mu.imag + nu.imag) * a + real(mu.real - nu.real) * b
+        y.real = scalar(mu.real + nu.real) * a + scalar(nu.imag - mu.imag) * b
+        y.imag = scalar(mu.imag + nu.imag) * a + scalar(mu.real - nu.real) * b
         return y, None
 
 
@@ -909,7 +895,7 @@ class TimingOffset(Impairment):
     """
 
     def __init__(self, delay_samples, *, interp_length=32):
-        d = _real(delay_samples, "delay_samples", minimum=0.0)
+        d = real(delay_samples, "delay_samples", minimum=0.0)
         length = _interp_length(interp_length)
         whole = d == math.floor(d)
         half = length // 2
@@ -1024,7 +1010,7 @@ class SamplingClockOffset(Impairment):
     """
 
     def __init__(self, ppm, *, interp_length=32):
-        p = _real(ppm, "ppm")
+        p = real(ppm, "ppm")
         if not abs(p) < _MAX_PPM:
             raise ValueError(f"ppm={ppm!r} is not allowed; need |ppm| < {_MAX_PPM:g}")
         self._ppm = p

@@ -108,7 +108,7 @@ import numbers
 import numpy as np
 
 from .. import _kernel
-from .._checks import generator, integer
+from .._checks import generator, integer, plan_of, real
 from .profiles import DelayProfile
 
 __all__ = ["TappedDelayLine"]
@@ -119,21 +119,6 @@ _MAX_LAGS = 1 << 20
 _MAX_INTERVAL = 1024
 _C128 = np.dtype(np.complex128)
 _C64 = np.dtype(np.complex64)
-
-
-def _real(value, name: str, *, minimum=None, below=None, allow_equal_min=True) -> float:
-    if isinstance(value, (bool, np.bool_)) or not isinstance(value, numbers.Real):
-        raise TypeError(f"{name} must be a real number; got {value!r} "
-                        f"({type(value).__name__})")
-    result = float(value)
-    if not math.isfinite(result):
-        raise ValueError(f"{name} must be finite; got {value!r}")
-    if minimum is not None and (result < minimum or (result == minimum and not allow_equal_min)):
-        relation = ">=" if allow_equal_min else ">"
-        raise ValueError(f"{name}={value!r} is not allowed; need {name} {relation} {minimum:g}")
-    if below is not None and not result < below:
-        raise ValueError(f"{name}={value!r} is not allowed; need {name} < {below:g}")
-    return result
 
 
 def _signal_dtype(arr: np.ndarray) -> np.dtype:
@@ -231,8 +216,8 @@ class TappedDelayLine:
         if not isinstance(profile, DelayProfile):
             raise TypeError(f"profile must be a tonebank.channel.DelayProfile; got "
                             f"{type(profile).__name__}")
-        fs = _real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
-        fd = _real(max_doppler_hz, "max_doppler_hz", minimum=0.0)
+        fs = real(sample_rate, "sample_rate", minimum=0.0, allow_equal_min=False)
+        fd = real(max_doppler_hz, "max_doppler_hz", minimum=0.0)
         if not fd < fs / 2:
             raise ValueError(f"max_doppler_hz={max_doppler_hz!r} is not allowed; need "
                              f"0 <= max_doppler_hz < sample_rate / 2 = {fs / 2:g} Hz")
@@ -274,7 +259,7 @@ class TappedDelayLine:
             interval = 1 if fd == 0 else int(min(_MAX_INTERVAL, max(1, fs // (64 * fd))))
         else:
             interval = integer(update_interval, "update_interval", minimum=1)
-        los_angle = _real(los_angle_rad, "los_angle_rad")
+        los_angle = real(los_angle_rad, "los_angle_rad")
         gen = generator(rng)
 
         self._profile = profile
@@ -797,21 +782,7 @@ class TappedDelayLine:
         return self._squeeze(response)
 
     def _resolve_target(self, target):
-        from ..plan import CarrierPlan
-
-        if isinstance(target, CarrierPlan):
-            plan, oversampling = target, 1
-        elif hasattr(target, "plan") and hasattr(target, "fft_size") \
-                and isinstance(target.plan, CarrierPlan):
-            plan = target.plan
-            size = integer(target.fft_size, "target.fft_size", minimum=1)
-            oversampling, rest = divmod(size, plan.n_fft)
-            if rest or oversampling < 1:
-                raise ValueError(f"target.fft_size={size} is not a multiple of the plan's "
-                                 f"n_fft={plan.n_fft}")
-        else:
-            raise TypeError(f"target must be a tonebank.CarrierPlan or a waveform with "
-                            f"plan and fft_size; got {type(target).__name__}")
+        plan, oversampling = plan_of(target)
         if plan.sample_rate is not None:
             rate = plan.sample_rate * oversampling
             if not math.isclose(rate, self._fs, rel_tol=1e-9):
