@@ -18,7 +18,7 @@ import math
 import numpy as np
 
 from .._checks import integer
-from .tdl import _real
+from .._checks import real
 
 __all__ = [
     "cfo_ici_power",
@@ -78,8 +78,8 @@ def cfo_snr_loss_db(epsilon, esn0_db) -> float:
     >>> round(cfo_snr_loss_db(0.02, 20.0), 3)
     0.572
     """
-    eps = _real(epsilon, "epsilon")
-    snr = 10.0 ** (_real(esn0_db, "esn0_db") / 10.0)
+    eps = real(epsilon, "epsilon")
+    snr = 10.0 ** (real(esn0_db, "esn0_db") / 10.0)
     return 10.0 / (3.0 * math.log(10.0)) * (math.pi * eps) ** 2 * snr
 
 
@@ -122,7 +122,7 @@ def cfo_ici_power(epsilon, n_fft) -> float:
     >>> round(cfo_ici_power(0.1, 64) / ((3.14159265 * 0.1) ** 2 / 3), 3)
     0.987
     """
-    eps = _real(epsilon, "epsilon")
+    eps = real(epsilon, "epsilon")
     n = integer(n_fft, "n_fft", minimum=1)
     if eps == math.floor(eps):
         s0 = 1.0 if eps == 0 else 0.0
@@ -196,8 +196,8 @@ def wiener_ici_power(linewidth_hz, subcarrier_spacing_hz, n_fft=None) -> float:
     >>> round(wiener_ici_power(100.0, 15e3, 64), 6)
     0.006943
     """
-    beta = _real(linewidth_hz, "linewidth_hz", minimum=0.0)
-    spacing = _real(subcarrier_spacing_hz, "subcarrier_spacing_hz", minimum=0.0,
+    beta = real(linewidth_hz, "linewidth_hz", minimum=0.0)
+    spacing = real(subcarrier_spacing_hz, "subcarrier_spacing_hz", minimum=0.0,
                     allow_equal_min=False)
     if n_fft is None:
         return math.pi * beta / (3.0 * spacing)
@@ -264,14 +264,14 @@ def wiener_cpe_step_variance(linewidth_hz, subcarrier_spacing_hz, *,
     >>> round(wiener_cpe_step_variance(100.0, 15e3), 7)
     0.0279253
     """
-    beta = _real(linewidth_hz, "linewidth_hz", minimum=0.0)
-    spacing = _real(subcarrier_spacing_hz, "subcarrier_spacing_hz", minimum=0.0,
+    beta = real(linewidth_hz, "linewidth_hz", minimum=0.0)
+    spacing = real(subcarrier_spacing_hz, "subcarrier_spacing_hz", minimum=0.0,
                     allow_equal_min=False)
     window = 1.0 / spacing
     if symbol_duration_s is None:
         period = window
     else:
-        period = _real(symbol_duration_s, "symbol_duration_s")
+        period = real(symbol_duration_s, "symbol_duration_s")
         if period < window * (1 - 1e-12):
             raise ValueError(f"symbol_duration_s={symbol_duration_s!r} is not allowed; need "
                              f"symbol_duration_s >= 1 / subcarrier_spacing_hz = {window:g} s")
