@@ -39,7 +39,8 @@
  * because n + cp + taps - 1 <= m (checked).
  *
  * Plan memory: one allocation
- *   | struct | H (2m) | A (2n) | Ac (2nc) | gain (n) | pos_a (n_a) | pos_b (n_b) |
+ *   | struct | H (2m) | A (2n) | Ac (2nc) | gain (n) | wa (2 n_a) | wb (2 n_b) |
+ *   | ga (n_a) | gb (n_b) | pos_a (n_a) | pos_b (n_b) |
  * (doubles first, then sizes) plus FFT plans of n, m and, when it differs
  * from n, nc.  Ac = DFT_nc(a) / nc.  Workspace: the largest FFT
  * workspace, then a body row (2n REALs), a spectrum row (2 max(m, nc)
@@ -58,6 +59,10 @@ struct tb_fofdm_plan {
     const double *A;      /* A_k = sum_j conj(h_j) W^{-kj}, n values, interleaved */
     const double *Ac;     /* DFT_nc(conj(h)) / nc, interleaved */
     const double *gain;   /* receive gain per FFT position, n values */
+    /* per gathered value of tables a / b: gain * A at its position
+     * (interleaved) and the gain alone, so the receive gather is one
+     * product and one multiply-add per value */
+    const double *wa, *wb, *ga, *gb;
     const size_t *pos_a, *pos_b;
 };
 
@@ -148,8 +153,9 @@ int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,
     if (st != TB_OK)
         return st;
 
-    p = (tb_fofdm_plan *)malloc(sizeof(tb_fofdm_plan) + (2 * m + 3 * n + 2 * nc) *
-                                sizeof(double) + (n_a + n_b) * sizeof(size_t));
+    p = (tb_fofdm_plan *)malloc(sizeof(tb_fofdm_plan) +
+                                (2 * m + 3 * n + 2 * nc + 3 * (n_a + n_b)) * sizeof(double) +
+                                (n_a + n_b) * sizeof(size_t));
     if (p == NULL)
         return TB_ERR_NOMEM;
     p->fft_n = p->fft_m = p->fft_c = NULL;
@@ -160,13 +166,25 @@ int tb_fofdm_plan_create(size_t n, size_t m, int precision, size_t n_a,
         st = tb_fft_plan_create(nc, precision, &p->fft_c);
     if (st == TB_OK) {
         double *H = (double *)(p + 1), *A = H + 2 * m, *Ac = A + 2 * n, *gn = Ac + 2 * nc;
-        size_t *pa = (size_t *)(gn + n), *pb = pa + n_a;
+        double *wa = gn + n, *wb = wa + 2 * n_a, *ga = wb + 2 * n_b, *gb = ga + n_a;
+        size_t *pa = (size_t *)(gb + n_b), *pb = pa + n_a, k;
         st = tb_fofdm_responses(n, m, nc, taps, h, H, A, Ac);
         memcpy(gn, gain, n * sizeof(double));
         if (n_a)
             memcpy(pa, bins_a, n_a * sizeof(size_t));
         if (n_b)
             memcpy(pb, bins_b, n_b * sizeof(size_t));
+        for (k = 0; k < n_a + n_b; k++) {
+            const size_t pos = k < n_a ? pa[k] : pb[k - n_a];
+            double *w = k < n_a ? wa + 2 * k : wb + 2 * (k - n_a);
+            ga[k] = gain[pos]; /* ga and gb are adjacent: gb = ga + n_a */
+            w[0] = gain[pos] * A[2 * pos];
+            w[1] = gain[pos] * A[2 * pos + 1];
+        }
+        p->wa = wa;
+        p->wb = wb;
+        p->ga = ga;
+        p->gb = gb;
         p->H = H;
         p->A = A;
         p->Ac = Ac;

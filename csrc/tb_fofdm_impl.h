@@ -18,6 +18,28 @@ static void SFX(fofdm_product)(const REAL *spec, const double *R, size_t m, REAL
     }
 }
 
+/* dst[k] = scale (w[k] Y[pos[k]] + g[k] C[pos[k]]), k < count: the receive
+ * gather with w = gain * A and g = gain per value (C NULL: no edge term). */
+static void SFX(fofdm_gather)(size_t count, const size_t *pos, const double *w,
+                              const double *g, const REAL *Y, const REAL *C, REAL scale,
+                              REAL *dst)
+{
+    size_t k;
+    for (k = 0; k < count; k++) {
+        const size_t p = pos[k];
+        const REAL wr = (REAL)w[2 * k], wi = (REAL)w[2 * k + 1];
+        const REAL yr = Y[2 * p], yi = Y[2 * p + 1];
+        REAL xr = wr * yr - wi * yi, xi = wr * yi + wi * yr;
+        if (C != NULL) {
+            const REAL gk = (REAL)g[k];
+            xr += gk * C[2 * p];
+            xi += gk * C[2 * p + 1];
+        }
+        dst[2 * k] = scale * xr;
+        dst[2 * k + 1] = scale * xi;
+    }
+}
+
 int SFX(tb_fofdm_synthesize)(const tb_fofdm_plan *plan, size_t batch, size_t n_symbols,
                              const size_t *cp, const REAL *a, ptrdiff_t a_batch_stride,
                              ptrdiff_t a_symbol_stride, const REAL *b,
@@ -102,7 +124,7 @@ int SFX(tb_fofdm_analyze)(const tb_fofdm_plan *plan, size_t batch, size_t n_symb
                           REAL scale, void *work)
 {
     const tb_fft_plan *fn, *fc;
-    size_t n, nc, edge, q, s, i, k;
+    size_t n, nc, edge, q, s, i;
     REAL *w = (REAL *)work, *body, *spec, *corr;
     int st = tb_fofdm_check(plan, PREC, n_symbols, cp, a, b, 0, in, work);
     if (st != TB_OK)
@@ -161,21 +183,11 @@ int SFX(tb_fofdm_analyze)(const tb_fofdm_plan *plan, size_t batch, size_t n_symb
                 SFX(tb_fft_core_row)(fn, 1, re, im, 1, corr, 1, (REAL)1, w);
             }
             /* X_k = A_k Y_k + edge term, gathered with the gain */
-            for (k = 0; k < plan->n_a + (db != NULL ? plan->n_b : 0); k++) {
-                const int in_a = k < plan->n_a;
-                const size_t pos = in_a ? plan->pos_a[k] : plan->pos_b[k - plan->n_a];
-                const REAL g = scale * (REAL)plan->gain[pos];
-                const REAL ar = (REAL)plan->A[2 * pos], ai = (REAL)plan->A[2 * pos + 1];
-                const REAL yr = body[2 * pos], yi = body[2 * pos + 1];
-                REAL xr = ar * yr - ai * yi, xi = ar * yi + ai * yr;
-                REAL *dst = in_a ? da + 2 * k : db + 2 * (k - plan->n_a);
-                if (edge > 0) {
-                    xr += corr[2 * pos];
-                    xi += corr[2 * pos + 1];
-                }
-                dst[0] = g * xr;
-                dst[1] = g * xi;
-            }
+            SFX(fofdm_gather)(plan->n_a, plan->pos_a, plan->wa, plan->ga, body,
+                              edge > 0 ? corr : NULL, scale, da);
+            if (db != NULL)
+                SFX(fofdm_gather)(plan->n_b, plan->pos_b, plan->wb, plan->gb, body,
+                                  edge > 0 ? corr : NULL, scale, db);
             o += n + cp[s];
         }
     }
