@@ -28,6 +28,26 @@ static void SFX(fbmc_axpy2)(REAL *restrict d, const REAL *restrict h1,
     for (j = 0; j < n; j++)
         d[j] += h1[j] * a[j] + h2[j] * b[j];
 }
+/* d[j] = h[j] * a[j] and d[j] = h1[j] * a[j] + h2[j] * b[j]: the two
+ * half periods a symbol reaches first (no earlier symbol wrote there), so
+ * they are stored instead of zeroed and added to. */
+static void SFX(fbmc_set)(REAL *restrict d, const REAL *restrict h, const REAL *restrict a,
+                          size_t n)
+{
+    size_t j;
+    for (j = 0; j < n; j++)
+        d[j] = h[j] * a[j];
+}
+
+static void SFX(fbmc_set2)(REAL *restrict d, const REAL *restrict h1,
+                           const REAL *restrict a, const REAL *restrict h2,
+                           const REAL *restrict b, size_t n)
+{
+    size_t j;
+    for (j = 0; j < n; j++)
+        d[j] = h1[j] * a[j] + h2[j] * b[j];
+}
+
 
 /* a[j] += h1[j] * y[j], b[j] += h2[j] * y[j]: one read of the input
  * feeds the folds of both half-symbols. */
@@ -155,16 +175,14 @@ static void SFX(fbmc_synthesize)(const tb_fbmc_plan *plan, size_t batch, size_t 
             memset(o, 0, 2 * tail * sizeof(REAL));
             continue;
         }
-        /* Zero each stretch of the output just before the first symbol
-         * that adds into it: symbol 0 covers [0, KM + M/2), every later
-         * one reaches M samples further. */
+        /* Symbol 0 covers [0, KM + M/2) and starts from zeros; every later
+         * symbol reaches M samples further, and stores (instead of adds)
+         * its last two half periods, which no earlier symbol touched. */
         memset(o, 0, 2 * (taps + half) * sizeof(REAL));
         for (s = 0; s < n_symbols; s++) {
             const REAL *row = g + 2 * s * m;
             const REAL sg = ((start_symbol + s) & 1) ? (REAL)-0.5 : (REAL)0.5;
             REAL *oa = o + 2 * s * m;
-            if (s > 0)
-                memset(o + 2 * (s * m + taps - half), 0, 2 * m * sizeof(REAL));
             if (plan->shift) {
                 /* c is a circular shift by plan->shift samples (M % 4 == 0):
                  * the IFFT reads the grid row where it lies and z is read
@@ -188,14 +206,20 @@ static void SFX(fbmc_synthesize)(const tb_fbmc_plan *plan, size_t batch, size_t 
              *   out [iM+M/2, iM+M)    += h[iM+M/2+p] A[M/2+p] + h[iM+p] B[p]
              * (no B term before M/2, no A term from KM on). */
             SFX(fbmc_axpy)(oa, hh, A, m);
-            SFX(fbmc_axpy2)(oa + m, hh + m, A + m, hh, B, m);
+            if (plan->overlap == 1)
+                SFX(fbmc_set2)(oa + m, hh + m, A + m, hh, B, m);
+            else
+                SFX(fbmc_axpy2)(oa + m, hh + m, A + m, hh, B, m);
             for (i = 1; i < plan->overlap; i++) {
                 REAL *d = oa + 2 * i * m;
                 const REAL *h = hh + 2 * i * m;
                 SFX(fbmc_axpy2)(d, h, A, h - m, B + m, m);
-                SFX(fbmc_axpy2)(d + m, h + m, A + m, h, B, m);
+                if (i + 1 < plan->overlap)
+                    SFX(fbmc_axpy2)(d + m, h + m, A + m, h, B, m);
+                else /* half period 2K - 1: first reached by this symbol */
+                    SFX(fbmc_set2)(d + m, h + m, A + m, h, B, m);
             }
-            SFX(fbmc_axpy)(oa + 2 * taps, hh + 2 * taps - m, B + m, m);
+            SFX(fbmc_set)(oa + 2 * taps, hh + 2 * taps - m, B + m, m); /* half period 2K */
         }
     }
 }
