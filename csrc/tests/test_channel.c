@@ -27,6 +27,7 @@
 #include <string.h>
 
 #include "../tonebank.h"
+#include "tb_test.h"
 
 /* A second, portable-only copy of the kernel op (no AVX2 dispatch) under
  * other names: the build's copy (which picks AVX2 at run time where the
@@ -38,8 +39,6 @@
 #undef tb_channel_fir_f32
 #undef tb_channel_fir_f64
 
-static long n_passed = 0, n_failed = 0;
-
 static void check(int ok, const char *what, size_t n, size_t lags, int prec)
 {
     if (ok) {
@@ -49,25 +48,6 @@ static void check(int ok, const char *what, size_t n, size_t lags, int prec)
         printf("FAIL: %s (n=%zu, lags=%zu, %s)\n", what, n, lags,
                prec == TB_FLOAT32 ? "f32" : "f64");
     }
-}
-
-static uint64_t rng_state = 0x9E3779B97F4A7C15u;
-static double rnd(void) /* uniform in [-1, 1) */
-{
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return (double)((rng_state * 0x2545F4914F6CDD1DULL) >> 11) / 4503599627370496.0 - 1.0;
-}
-
-static void *xmalloc(size_t bytes)
-{
-    void *p = malloc(bytes ? bytes : 1);
-    if (p == NULL) {
-        printf("out of memory in the test\n");
-        exit(2);
-    }
-    return p;
 }
 
 /* Fill count complex values (as doubles) with random numbers of modulus <= scale. */
@@ -86,11 +66,6 @@ static void to_prec(int prec, const double *src, void *dst, size_t nreal)
             ((float *)dst)[i] = (float)src[i];
     else
         memcpy(dst, src, nreal * sizeof(double));
-}
-
-static double get(int prec, const void *v, size_t i)
-{
-    return prec == TB_FLOAT32 ? (double)((const float *)v)[i] : ((const double *)v)[i];
 }
 
 static int run(int prec, size_t batch, size_t n, size_t lags, const void *x, ptrdiff_t xbs,

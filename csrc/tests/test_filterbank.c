@@ -25,8 +25,7 @@
 #include <string.h>
 
 #include "../tonebank.h"
-
-static long n_passed = 0, n_failed = 0;
+#include "tb_test.h"
 
 static void check(int ok, const char *what, size_t n, int prec)
 {
@@ -36,41 +35,6 @@ static void check(int ok, const char *what, size_t n, int prec)
         n_failed++;
         printf("FAIL: %s (n=%zu, %s)\n", what, n, prec == TB_FLOAT32 ? "f32" : "f64");
     }
-}
-
-static uint64_t rng_state = 0x9E3779B97F4A7C15u;
-static double rnd(void) /* uniform in [-1, 1) */
-{
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return (double)((rng_state * 0x2545F4914F6CDD1DULL) >> 11) / 4503599627370496.0 - 1.0;
-}
-
-static void *xcalloc(size_t count, size_t size)
-{
-    void *p = calloc(count ? count : 1, size ? size : 1);
-    if (p == NULL) {
-        printf("out of memory in the test\n");
-        exit(2);
-    }
-    return p;
-}
-
-static void put(int prec, void *buf, size_t i, double v)
-{
-    if (prec == TB_FLOAT32)
-        ((float *)buf)[i] = (float)v;
-    else
-        ((double *)buf)[i] = v;
-}
-static double get(int prec, const void *buf, size_t i)
-{
-    return prec == TB_FLOAT32 ? (double)((const float *)buf)[i] : ((const double *)buf)[i];
-}
-static size_t rsize(int prec)
-{
-    return prec == TB_FLOAT32 ? sizeof(float) : sizeof(double);
 }
 
 static const long double PI_L = 3.141592653589793238462643383279502884L;

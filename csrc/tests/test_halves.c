@@ -27,8 +27,7 @@
 #include <stdlib.h>
 
 #include "../tonebank.h"
-
-static long n_passed = 0, n_failed = 0;
+#include "tb_test.h"
 
 static void check(int ok, const char *what, size_t n, size_t period, size_t window,
                   int prec)
@@ -40,30 +39,6 @@ static void check(int ok, const char *what, size_t n, size_t period, size_t wind
         printf("FAIL: %s (n=%zu, period=%zu, window=%zu, %s)\n", what, n, period, window,
                prec == TB_FLOAT32 ? "f32" : "f64");
     }
-}
-
-static uint64_t rng_state = 0x9E3779B97F4A7C15u;
-static double rnd(void) /* uniform in [-1, 1) */
-{
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return (double)((rng_state * 0x2545F4914F6CDD1DULL) >> 11) / 4503599627370496.0 - 1.0;
-}
-
-static void *xmalloc(size_t bytes)
-{
-    void *v = malloc(bytes ? bytes : 1);
-    if (v == NULL) {
-        printf("out of memory\n");
-        exit(2);
-    }
-    return v;
-}
-
-static double get(const void *v, size_t i, int prec)
-{
-    return prec == TB_FLOAT32 ? (double)((const float *)v)[i] : ((const double *)v)[i];
 }
 
 /* `batch` signals of n samples, rows `stride` complex elements apart;
@@ -124,15 +99,15 @@ static void check_config(int prec, size_t batch, size_t n, size_t period, size_t
             size_t m;
             for (m = 0; m < window; m++) {
                 size_t a = 2 * (q * stride + d + m), b = 2 * (q * stride + d + m + period);
-                long double ar = get(x, a, prec), ai = get(x, a + 1, prec);
-                long double br = get(x, b, prec), bi = get(x, b + 1, prec);
+                long double ar = get(prec, x, a), ai = get(prec, x, a + 1);
+                long double br = get(prec, x, b), bi = get(prec, x, b + 1);
                 sr += ar * br + ai * bi;
                 si += ar * bi - ai * br;
                 se += br * br + bi * bi;
             }
-            er = fabs(get(p, 2 * (q * (n_out + 1) + d), prec) - (double)sr);
-            ei = fabs(get(p, 2 * (q * (n_out + 1) + d) + 1, prec) - (double)si);
-            ee = fabs(get(r, q * (n_out + 2) + d, prec) - (double)se);
+            er = fabs(get(prec, p, 2 * (q * (n_out + 1) + d)) - (double)sr);
+            ei = fabs(get(prec, p, 2 * (q * (n_out + 1) + d) + 1) - (double)si);
+            ee = fabs(get(prec, r, q * (n_out + 2) + d) - (double)se);
             er -= eps_out * fabs((double)sr);
             ei -= eps_out * fabs((double)si);
             ee -= eps_out * fabs((double)se);
