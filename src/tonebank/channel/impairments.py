@@ -84,7 +84,7 @@ import numpy as np
 
 from .. import _kernel
 from .._checks import generator, integer, plan_of, real
-from .tdl import _KAISER_BETA, _signal_dtype
+from .tdl import _KAISER_BETA, _check_stream_chunk, _signal_dtype
 
 __all__ = [
     "DcOffset",
@@ -287,10 +287,7 @@ class Impairment:
         True
         """
         x, lead, dtype = self._prepare(samples)
-        if self._lead is not None and (lead, dtype) != self._lead:
-            raise ValueError(f"samples have leading shape {lead} and dtype {dtype}, but this "
-                             f"stream started with {self._lead[0]} and {self._lead[1]}; keep "
-                             "them fixed, or call reset() first")
+        _check_stream_chunk(self._lead, lead, dtype)
         y, self._state = self._run(x, self._position, self._state)
         self._lead = (lead, dtype)
         self._position += x.shape[-1]

@@ -121,6 +121,15 @@ _C128 = np.dtype(np.complex128)
 _C64 = np.dtype(np.complex64)
 
 
+def _check_stream_chunk(started, lead: tuple, dtype: np.dtype) -> None:
+    """The ValueError of a streaming ``apply`` whose chunk changes the
+    leading shape or precision the stream ``started`` with (None: first chunk)."""
+    if started is not None and (lead, dtype) != started:
+        raise ValueError(f"samples have leading shape {lead} and dtype {dtype}, but this "
+                         f"stream started with {started[0]} and {started[1]}; keep "
+                         "them fixed, or call reset() first")
+
+
 def _signal_dtype(arr: np.ndarray) -> np.dtype:
     if arr.dtype.kind not in "biufc":
         raise TypeError(f"samples must be numeric; got dtype {arr.dtype}")
@@ -679,10 +688,7 @@ class TappedDelayLine:
         True
         """
         x, lead, dtype = self._prepare(samples)
-        if self._lead is not None and (lead, dtype) != self._lead:
-            raise ValueError(f"samples have leading shape {lead} and dtype {dtype}, but this "
-                             f"stream started with {self._lead[0]} and {self._lead[1]}; keep "
-                             "them fixed, or call reset() first")
+        _check_stream_chunk(self._lead, lead, dtype)
         y, self._history = self._run(x, lead, dtype, self._position, self._history)
         self._lead = (lead, dtype)
         self._position += x.shape[-1]
