@@ -52,19 +52,7 @@ class RepeatedRegion(NamedTuple):
     length: int
 
 
-
-class _Immutable:
-    """Base of the prepared sync objects: attributes are set in ``__init__``,
-    which sets ``_frozen`` last; afterwards any assignment raises."""
-
-    __slots__ = ()
-
-    def __setattr__(self, key, value):
-        if hasattr(self, "_frozen"):
-            raise AttributeError(f"{type(self).__name__} is immutable; build a new one")
-        object.__setattr__(self, key, value)
-
-class Preamble(_Immutable):
+class Preamble:
     """The known start of every frame, and where its parts lie (immutable).
 
     Build one with :meth:`two_halves` or :meth:`ieee80211a`.
@@ -127,6 +115,11 @@ class Preamble(_Immutable):
         self._halves_start = None if halves_start is None else int(halves_start)
         self._name = name
         self._frozen = True
+
+    def __setattr__(self, key, value):
+        if hasattr(self, "_frozen"):
+            raise AttributeError(f"{type(self).__name__} is immutable; build a new one")
+        object.__setattr__(self, key, value)
 
     @classmethod
     def two_halves(cls, plan: CarrierPlan, *, rng=2024) -> Preamble:

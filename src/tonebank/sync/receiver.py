@@ -33,14 +33,14 @@ from ..estimation import estimate_from_training
 from ..plan import CarrierPlan
 from ..waveforms import CpOfdm
 from .frequency import _finite, correct_cfo, integer_cfo, repeat_cfo
-from .preamble import Preamble, _Immutable
+from .preamble import Preamble
 from .timing import DEFAULT_THRESHOLD, _fraction, _regions, _signal, timing_metric
 from .tracking import PilotPhase, derotate, pilot_phase
 
 __all__ = ["FrameFormat", "FrameReceiver", "FrameReport"]
 
 
-class FrameFormat(_Immutable):
+class FrameFormat:
     """A frame of a preamble and ``n_symbols`` CP-OFDM data symbols (immutable).
 
     Parameters
@@ -100,6 +100,11 @@ class FrameFormat(_Immutable):
         self._preamble = preamble
         self._ofdm = CpOfdm(plan)
         self._frozen = True
+
+    def __setattr__(self, key, value):
+        if hasattr(self, "_frozen"):
+            raise AttributeError(f"{type(self).__name__} is immutable; build a new one")
+        object.__setattr__(self, key, value)
 
     @property
     def plan(self) -> CarrierPlan:
@@ -196,7 +201,7 @@ class FrameReport(NamedTuple):
     complete: bool
 
 
-class FrameReceiver(_Immutable):
+class FrameReceiver:
     """The synchronising receiver of a :class:`tonebank.sync.FrameFormat` (immutable).
 
     Parameters
@@ -306,6 +311,11 @@ class FrameReceiver(_Immutable):
         self._template.flags.writeable = False
         self._template_offset = pre.training_starts[0] - lead
         self._frozen = True
+
+    def __setattr__(self, key, value):
+        if hasattr(self, "_frozen"):
+            raise AttributeError(f"{type(self).__name__} is immutable; build a new one")
+        object.__setattr__(self, key, value)
 
     @property
     def frame_format(self) -> FrameFormat:
