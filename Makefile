@@ -57,15 +57,15 @@ $(BIN)/python:
 
 # One stamp per set of extras; each depends on the package sources.
 $(VENV)/.installed-demo: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
-	$(PIP) install -q --no-build-isolation .
+	$(PIP) install -q --no-build-isolation ".[plot,config]"
 	touch $@
 
 $(VENV)/.installed-test: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
-	$(PIP) install -q --no-build-isolation ".[test,docs]"
+	$(PIP) install -q --no-build-isolation ".[test,docs,plot,dist,config]"
 	touch $@
 
 $(VENV)/.installed-bench: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
-	$(PIP) install -q --no-build-isolation ".[test,bench]"
+	$(PIP) install -q --no-build-isolation ".[test,bench,plot,dist,config]"
 	touch $@
 
 clean:
