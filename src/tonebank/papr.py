@@ -995,6 +995,13 @@ class SelectiveMapping:
         self._phases64 = full.astype(np.complex64)
         self._runners = {}
 
+    # Prepared kernel runners hold C pointers: dropped when pickled (e.g. for a
+    # worker process of a sweep) and rebuilt on first use.
+    def __getstate__(self):
+        state = self.__dict__.copy()
+        state["_runners"] = {}
+        return state
+
     # -- properties
 
     @property

@@ -76,6 +76,7 @@ taps).
 from __future__ import annotations
 
 import cmath
+import copy
 import functools
 import math
 import numbers
@@ -639,6 +640,39 @@ class PhaseNoise(Impairment):
             self._blocks.pop(next(iter(self._blocks)))
         self._blocks[block] = phase
         return phase
+
+    def with_rng(self, rng) -> "PhaseNoise":
+        """The same phase-noise process with a new, independent path.
+
+        A link simulation draws one path per frame this way, so that
+        frames do not all see the same phase trajectory.
+
+        Parameters
+        ----------
+        rng : numpy.random.Generator or int
+            Source of the new path's key.
+
+        Returns
+        -------
+        PhaseNoise
+            Same linewidth or mask and sample rate; stream position 0.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> from tonebank.channel import PhaseNoise
+        >>> pn = PhaseNoise(100.0, 1e6, rng=4)
+        >>> other = pn.with_rng(5)
+        >>> bool(np.array_equal(pn.phase(np.arange(99)), other.phase(np.arange(99))))
+        False
+        """
+        gen = generator(rng)
+        twin = copy.copy(self)
+        twin._key = [int(v) for v in gen.integers(0, 2**32, size=4)]
+        twin._starts = [0.0]
+        twin._blocks = {}
+        twin.reset()
+        return twin
 
     def phase(self, sample_index) -> np.ndarray:
         """The phase path :math:`\\phi[n]` in radians at given stream samples.

@@ -24,6 +24,7 @@ whatever state a symbol boundary needs between calls: the symbol count
 from __future__ import annotations
 
 import abc
+import threading
 
 import numpy as np
 
@@ -64,6 +65,23 @@ class Waveform(abc.ABC):
     @abc.abstractmethod
     def analyze(self, samples, *, start_symbol: int = 0) -> np.ndarray:
         """Samples ``(..., n_samples)`` to the frequency grid ``(..., n_symbols, n_fft)``."""
+
+    # ---- pickling ----------------------------------------------------------
+    #: Attributes that hold prepared kernel runners (C pointers), call caches
+    #: or locks: dropped when a waveform is pickled (e.g. sent to a worker
+    #: process of a sweep) and rebuilt empty, then refilled on first use.
+    _transient: tuple = ()
+
+    def __getstate__(self):
+        state = self.__dict__.copy()
+        for name in self._transient:
+            state.pop(name, None)
+        return state
+
+    def __setstate__(self, state):
+        self.__dict__.update(state)
+        for name in self._transient:
+            setattr(self, name, threading.Lock() if name.endswith("lock") else {})
 
     def stream_synthesizer(self, *, start_symbol: int = 0) -> StreamSynthesizer:
         """A streaming synthesizer (see :class:`StreamSynthesizer`)."""

@@ -98,6 +98,8 @@ class CpOfdm(Waveform):
     True
     """
 
+    _transient = ("_runners", "_fast", "_lock")
+
     def __init__(self, plan: CarrierPlan, *, oversampling: int = 1, real: bool = False):
         if not isinstance(plan, CarrierPlan):
             raise TypeError(f"plan must be a tonebank.CarrierPlan, got {type(plan).__name__}")

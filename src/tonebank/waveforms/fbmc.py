@@ -275,6 +275,8 @@ class FbmcOqam(Waveform):
     True
     """
 
+    _transient = ("_runners", "_fast", "_lock")
+
     def __init__(self, plan: CarrierPlan, *, overlap: int = 4):
         if not isinstance(plan, CarrierPlan):
             raise TypeError(f"plan must be a tonebank.CarrierPlan, got {type(plan).__name__}")
