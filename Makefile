@@ -21,6 +21,9 @@ SPHINX := $(BIN)/python -m sphinx -q -W --keep-going -n
 
 .PHONY: demo test ctest pytest docs doctest bench clean distclean
 
+# One BLAS thread, as for bench: the link multiplies many small matrices, and on a
+# busy machine spinning BLAS threads make each one thousands of times slower.
+demo: export OPENBLAS_NUM_THREADS = 1
 demo: $(VENV)/.installed-demo
 	$(BIN)/python -m tonebank demo
 

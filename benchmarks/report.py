@@ -1017,6 +1017,43 @@ def sync_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- link throughput (test_15_link.py) ----
+
+
+def link_report(path: Path, stat: str = "median") -> str:
+    """The link section: frames per second of the demo link on each backend."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    frames: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "link":
+            continue
+        try:
+            rows[str(info["case"])][str(info["impl"])] = float(bench["stats"][stat])
+            frames[str(info["case"])] = int(info["frames"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Link throughput (test_15_link.py)", "---------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no link benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} over rounds.  demo = the demo link (SLM, amplifier, TDL-C on 2",
+        "antennas, LMMSE, MRC); plain = the same plan and channel, perfect channel knowledge,",
+        "no peak control or amplifier.  frames/s = frames per call / time; numpy/C = numpy",
+        "backend time / C time.",
+        "",
+    ]
+    out = []
+    for case in sorted(rows):
+        t = rows[case]
+        c, npy = t.get("tb_c"), t.get("tb_numpy")
+        fps = lambda v: "-" if not v else f"{frames[case] / v:.0f}"  # noqa: E731
+        out.append([case, fps(c), fps(npy), fmt_ratio(ratio(npy, c))])
+    lines.append(table(out, ["link", "C frames/s", "numpy frames/s", "numpy/C"]))
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -1046,6 +1083,7 @@ def main(argv=None) -> int:
         print(loading_section)
     print(sync_report(args.json, args.stat))           # synchronisation
     print(impairments_report(args.json, args.stat))    # receiver impairments
+    print(link_report(args.json, args.stat))           # link throughput
     return 0
 
 

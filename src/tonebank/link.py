@@ -353,6 +353,12 @@ class LinkResult(NamedTuple):
     counts: dict
     #: Bits of one frame.
     bits_per_frame: int
+    #: With ``run(..., detail=True)``: arrays for figures and checks --
+    #: ``symbols`` and ``sent`` (equalised and sent data cells, shape
+    #: ``(n_frames, n_cells)``), ``channel`` (what the receiver used) and
+    #: ``channel_true`` (None without fading), shape ``(n_frames, n_rx,
+    #: n_symbols, n_fft)``.  None otherwise.
+    detail: dict | None = None
 
     @property
     def ber(self) -> float:
@@ -672,7 +678,7 @@ class Link(_Frozen):
 
     # ---- running --------------------------------------------------------------------
 
-    def run(self, n_frames, snr_db, rng=None) -> LinkResult:
+    def run(self, n_frames, snr_db, rng=None, *, detail=False) -> LinkResult:
         """Send ``n_frames`` frames of random bits at ``snr_db`` and count what came back.
 
         Parameters
@@ -684,6 +690,9 @@ class Link(_Frozen):
         rng : numpy.random.Generator or int, optional
             Source of the bits, channel realisations, noise and impairment
             paths.  Same seed, same counts, on either kernel backend.
+        detail : bool, default False
+            Also return the equalised symbols and channels
+            (:attr:`LinkResult.detail`).
 
         Returns
         -------
@@ -715,7 +724,7 @@ class Link(_Frozen):
         rx = rx + math.sqrt(noise_var / 2.0) * noise
         rx = self._front_end(rx, gen)
 
-        symbols, cell_var = self._detect(rx, truth, tx_gain, noise_var, snr_db, counts)
+        symbols, cell_var, h_used = self._detect(rx, truth, tx_gain, noise_var, snr_db, counts)
         if slm_index is not None:
             index, symbols = self.peak.recover(
                 symbols, method=self.receiver.slm_recovery, constellation=self.constellation)
@@ -743,7 +752,11 @@ class Link(_Frozen):
         })
         ordered = {k: counts[k] for k in ERROR_KEYS}
         ordered.update((k, v) for k, v in counts.items() if k not in ordered)
-        return LinkResult(ordered, self.bits_per_frame)
+        extra = None
+        if detail:
+            extra = {"symbols": symbols, "sent": flat_sent, "channel": h_used,
+                     "channel_true": None if truth is None else tx_gain * truth}
+        return LinkResult(ordered, self.bits_per_frame, extra)
 
     # ---- transmitter ----------------------------------------------------------------
 
@@ -858,7 +871,7 @@ class Link(_Frozen):
             h = h[:, 0]
             grid = np.stack([self.waveform.analyze(rx[f, 0], channel=h[f])
                              for f in range(n_frames)])
-            return grid, noise_var / np.abs(h) ** 2
+            return grid, noise_var / np.abs(h) ** 2, h[:, None]
         grid = self.waveform.analyze(rx)                    # (F, B, S, n_fft)
         if r.estimation == "perfect":
             h = np.full(grid.shape, tx_gain, complex) if truth is None else tx_gain * truth
@@ -883,7 +896,7 @@ class Link(_Frozen):
             combine = {"mrc": combine_mrc, "egc": combine_egc,
                        "selection": combine_selection}[r.combining]
             out = combine(grid, h, noise_var, axis=1, channel_error_var=h_err)
-        return out.symbols, np.broadcast_to(out.noise_var, out.symbols.shape)
+        return out.symbols, np.broadcast_to(out.noise_var, out.symbols.shape), h
 
     def _data_cells(self, grid: np.ndarray) -> np.ndarray:
         """The data cells of ``(F, S, n_fft)`` in placement order: ``(F, n_cells)``."""

@@ -102,6 +102,7 @@ sample inside the kernel.
 
 from __future__ import annotations
 
+import functools
 import math
 import numbers
 
@@ -136,6 +137,52 @@ def _signal_dtype(arr: np.ndarray) -> np.dtype:
     if arr.dtype in (np.complex64, np.float32, np.float16):
         return _C64
     return _C128
+
+
+@functools.lru_cache(maxsize=64)
+def _mix_table(delays: tuple, interpolation: str, length: int) -> tuple[np.ndarray, int]:
+    """Map path gains to FIR taps: ``(n_paths, n_lags)`` weights (read-only) and the latency.
+
+    Cached: a link simulation draws a new realisation of the same profile
+    for every frame, and the windowed-sinc table depends on the delays only.
+    """
+    delays = np.asarray(delays, dtype=np.float64)
+    rounded = np.round(delays)
+    whole = np.abs(delays - rounded) <= 1e-9 * np.maximum(1.0, np.abs(delays))
+    if interpolation == "nearest" or np.all(whole):
+        lags = rounded.astype(np.int64)
+        mix = np.zeros((delays.size, int(lags.max()) + 1))
+        mix[np.arange(delays.size), lags] = 1.0
+        mix.flags.writeable = False
+        return mix, 0
+    from scipy.special import i0
+
+    half = length // 2
+    beta = _KAISER_BETA[length]
+    first = np.where(whole, rounded, np.floor(delays) - half + 1).astype(np.int64)
+    latency = int(max(0, -first.min()))
+    last = np.where(whole, rounded, np.floor(delays) + half).astype(np.int64)
+    mix = np.zeros((delays.size, int(last.max()) + latency + 1))
+    for p, d in enumerate(delays):
+        if whole[p]:
+            mix[p, int(rounded[p]) + latency] = 1.0
+            continue
+        m = np.arange(first[p], last[p] + 1)
+        x = m - d
+        window = i0(beta * np.sqrt(np.clip(1.0 - (x / half) ** 2, 0.0, None))) / i0(beta)
+        mix[p, m + latency] = np.sinc(x) * window
+    mix.flags.writeable = False
+    return mix, latency
+
+
+@functools.lru_cache(maxsize=32)
+def _steering(n_lags: int, n_fft: int, size: int) -> np.ndarray:
+    """``exp(-2 pi i m k / size)`` for lags ``m`` and the grid's signed bins ``k`` (read-only)."""
+    positions = np.arange(n_fft)
+    k = np.where(positions < n_fft - n_fft // 2, positions, positions - n_fft)
+    steering = np.exp(-2j * np.pi * np.outer(np.arange(n_lags), k % size) / size)
+    steering.flags.writeable = False
+    return steering
 
 
 class TappedDelayLine:
@@ -286,7 +333,8 @@ class TappedDelayLine:
             raise ValueError(f"the profile spans {profile.max_delay_s:g} s, {span:.0f} "
                              f"samples at sample_rate={fs:g}; at most {_MAX_LAGS} lags "
                              "are supported")
-        self._mix, self._latency = self._build_mix(profile.delays_s * fs)
+        self._mix, self._latency = _mix_table(tuple(profile.delays_s * fs),
+                                              self._interpolation, self._interp_length)
 
         # The realisation: drawn once, in a fixed order, so a seed gives the
         # same channel on either backend.
@@ -313,34 +361,6 @@ class TappedDelayLine:
         self.reset()
 
     # ---- set-up helpers ------------------------------------------------------
-
-    def _build_mix(self, delays: np.ndarray) -> tuple[np.ndarray, int]:
-        """Map path gains to FIR taps: ``(n_paths, n_lags)`` weights and the latency."""
-        rounded = np.round(delays)
-        whole = np.abs(delays - rounded) <= 1e-9 * np.maximum(1.0, np.abs(delays))
-        if self._interpolation == "nearest" or np.all(whole):
-            lags = rounded.astype(np.int64)
-            mix = np.zeros((delays.size, int(lags.max()) + 1))
-            mix[np.arange(delays.size), lags] = 1.0
-            return mix, 0
-        from scipy.special import i0
-
-        length = self._interp_length
-        half = length // 2
-        beta = _KAISER_BETA[length]
-        first = np.where(whole, rounded, np.floor(delays) - half + 1).astype(np.int64)
-        latency = int(max(0, -first.min()))
-        last = np.where(whole, rounded, np.floor(delays) + half).astype(np.int64)
-        mix = np.zeros((delays.size, int(last.max()) + latency + 1))
-        for p, d in enumerate(delays):
-            if whole[p]:
-                mix[p, int(rounded[p]) + latency] = 1.0
-                continue
-            m = np.arange(first[p], last[p] + 1)
-            x = m - d
-            window = i0(beta * np.sqrt(np.clip(1.0 - (x / half) ** 2, 0.0, None))) / i0(beta)
-            mix[p, m + latency] = np.sinc(x) * window
-        return mix, latency
 
     # ---- properties ----------------------------------------------------------
 
@@ -779,9 +799,7 @@ class TappedDelayLine:
         ends = np.cumsum(size + cp)
         windows = start + ends - size                                 # first body sample
         taps = self._window_taps(windows, size, at)                   # (B, S, L)
-        positions = np.arange(n_fft)
-        k = np.where(positions < n_fft - n_fft // 2, positions, positions - n_fft)
-        steering = np.exp(-2j * np.pi * np.outer(np.arange(self.n_lags), k % size) / size)
+        steering = _steering(self.n_lags, n_fft, size)
         # one 2-D product (BLAS) rather than a batched one over a broadcast view
         flat = np.ascontiguousarray(taps, dtype=np.complex128).reshape(-1, self.n_lags)
         response = (flat @ steering).reshape(taps.shape[:2] + (n_fft,))
