@@ -1,11 +1,13 @@
-"""The ``tonebank`` command line.
+"""The ``tonebank`` command line (also ``python -m tonebank``).
 
-``tonebank demo``
-    Print the backend report, run a kernel self-check, and run a short
-    CP-OFDM link end to end (bits to samples through noise and back) in an
-    invented scenario, printing its bit error rate and EVM.
-``tonebank info``
-    Print the backend report only.
+``tonebank demo [--out DIR] [--quick] [--workers N]``
+    The main job on an invented scenario (see :mod:`tonebank.demo`): a
+    short report, and with ``--out`` the figures and results tables.
+``tonebank info [--no-check]``
+    The backend report and a self-check of the kernel's FFT.
+``tonebank sweep CONFIG``
+    An error-rate sweep described in a TOML file
+    (:mod:`tonebank.sweep_config`), resumable through its result file.
 """
 
 from __future__ import annotations
@@ -16,12 +18,7 @@ import sys
 
 import numpy as np
 
-from . import __version__, backend_info, channel, fft, metrics, presets, theory
-from .channel import DelayProfile, TappedDelayLine
-from .constellation import Constellation
-from .equalization import equalize_mmse
-from .estimation import estimate_from_training
-from .waveforms import CpOfdm
+from . import __version__, backend_info, fft
 
 #: Sizes the self-check transforms: powers of 2, 3 and 5, mixed radix,
 #: the kernel's edge case n = 1 and a size (97, prime) that the C kernel
@@ -59,130 +56,22 @@ def self_check(rng=0) -> list[tuple[int, str, str, float, bool]]:
     return rows
 
 
-#: Es/N0 points of the demo link, dB.
-DEMO_ESN0_DB = (10.0, 13.0, 16.0, 19.0)
-
-
-def link_demo(rng=2026, *, n_symbols: int = 200) -> list[dict]:
-    """A short CP-OFDM link: 16-QAM on the IEEE 802.11a 20 MHz layout in AWGN.
-
-    The invented scenario: the irrigation controllers of a hillside
-    vineyard report to the farm office over a 20 MHz, 64-subcarrier link.
-    Each point sends ``n_symbols`` OFDM symbols of random bits through
-    the whole chain -- constellation, plan, fused synthesis, AWGN at the
-    stated Es/N0 (per used subcarrier, cyclic prefix included), analysis,
-    max-log LLRs, hard decisions -- and scores them.
-
-    Returns
-    -------
-    list of dict
-        One row per Es/N0 point with the keys ``esn0_db``, ``errors``
-        (:class:`tonebank.metrics.ErrorCount`), ``ber_theory`` (Gray
-        16-QAM in AWGN at the SNR each subcarrier sees after the cyclic
-        prefix loss), ``evm_percent`` and ``mer_db``.
-    """
-    rng = np.random.default_rng(rng)
-    plan = presets.ieee80211a()
-    qam = Constellation.qam(16)
-    ofdm = CpOfdm(plan)
-    rows = []
-    for esn0_db in DEMO_ESN0_DB:
-        bits = rng.integers(0, 2, n_symbols * plan.n_data * qam.bits_per_symbol)
-        data = qam.map(bits)
-        rx, noise_var = channel.awgn(ofdm.modulate(data), esn0_db, rng=rng,
-                                     convention="esn0", plan=plan, return_noise_var=True)
-        rx_data, _ = ofdm.demodulate(rx)
-        decided = (qam.llr(rx_data, noise_var) < 0).astype(np.uint8)
-        ebn0_bin = theory.esn0_to_ebn0_db(channel.esn0_to_bin_snr_db(esn0_db, plan),
-                                          qam.bits_per_symbol)
-        rows.append({
-            "esn0_db": esn0_db,
-            "errors": metrics.bit_errors(bits, decided),
-            "ber_theory": float(theory.ber_qam_gray(16, ebn0_bin)),
-            "evm_percent": float(metrics.evm(rx_data, data)),
-            "mer_db": float(metrics.mer_db(rx_data, data)),
-        })
-    return rows
-
-
-#: SNR points of the fading demo, dB (per sample, preamble and data alike).
-FADING_SNR_DB = (10.0, 20.0, 30.0)
-
-
-def fading_demo(rng=2027, *, n_frames: int = 40, n_symbols: int = 20) -> list[dict]:
-    """The same link through a fading channel, estimated from its preamble.
-
-    The vineyard link of :func:`link_demo`, now between the rows of vines:
-    each frame (the 802.11a preamble and ``n_symbols`` 16-QAM symbols)
-    passes through its own static realisation of 3GPP TR 38.901 TDL-A
-    scaled to a 50 ns delay spread, then AWGN.  The receiver estimates the
-    channel from the two long training symbols (averaged, then a 16-tap
-    DFT fit), equalises with one-tap MMSE and scores EVM (per frame,
-    averaged in dB over the frames) and bit errors, beside the same
-    receiver given the true channel.
-
-    Returns
-    -------
-    list of dict
-        One row per SNR with the keys ``snr_db``, ``evm_db`` and
-        ``evm_perfect_db`` (EVM with the estimate and with the true
-        channel), ``errors`` and ``errors_perfect``
-        (:class:`tonebank.metrics.ErrorCount`).
-    """
-    rng = np.random.default_rng(rng)
-    plan = presets.ieee80211a()
-    qam = Constellation.qam(16)
-    ofdm = CpOfdm(plan)
-    preamble = presets.ieee80211a_preamble(norm="ortho")
-    training = presets.ieee80211a_long_training()
-    profile = DelayProfile.published("tdl_a", delay_spread_s=50e-9)
-    bits = rng.integers(0, 2, (n_frames, n_symbols * plan.n_data * qam.bits_per_symbol))
-    sent = qam.map(bits)
-    frames = np.concatenate((np.broadcast_to(preamble, (n_frames, preamble.size)),
-                             ofdm.modulate(sent)), axis=-1)
-    received = np.empty_like(frames)
-    truth = np.empty((n_frames, plan.n_data), complex)
-    for f in range(n_frames):
-        # Sample-spaced paths: no interpolation delay to synchronise away.
-        tdl = TappedDelayLine(profile, plan.sample_rate, interpolation="nearest", rng=rng)
-        received[f] = tdl.filter(frames[f])
-        truth[f] = tdl.frequency_response(plan, 1)[0, plan.data_bins]
-    rows = []
-    for snr_db in FADING_SNR_DB:
-        rx, noise_var = channel.awgn(received, snr_db, rng=rng, return_noise_var=True)
-        noise_var = np.asarray(noise_var)[:, None, None]
-        # The long training symbols: samples 192..319 of the preamble.
-        ltf = fft(rx[:, 192:320].reshape(n_frames, 2, 64), norm="ortho")
-        est = estimate_from_training(ltf, training, frequency="dft", n_taps=16)
-        data, _ = ofdm.demodulate(rx[:, preamble.size:])
-        data = data.reshape(n_frames, n_symbols, plan.n_data)
-        want = sent.reshape(data.shape)
-        row = {"snr_db": snr_db}
-        est_nv = est.noise_var[:, None, None]
-        # The estimate's own error (a 16-tap fit over 52 bins of two averaged
-        # repeats: about 16/52/2 of the noise) enters the equaliser as such.
-        for key, h, nv, h_err in (("", est.channel[:, None, plan.data_bins], est_nv,
-                                   est_nv * 16 / 52 / 2),
-                                  ("_perfect", truth[:, None, :], noise_var, 0.0)):
-            eq = equalize_mmse(data, h, nv, channel_error_var=h_err)
-            decided = (qam.llr(eq.symbols, eq.noise_var) < 0).astype(np.uint8)
-            # EVM per frame, then averaged in dB over the frames, as transmitter
-            # tests usually average it (common practice, no source): one frame
-            # in a deep fade does not swamp the others.
-            per_frame = metrics.evm(eq.symbols, want, axis=(1, 2), unit="db")
-            row["evm" + key + "_db"] = float(np.mean(per_frame))
-            row["errors" + key] = metrics.bit_errors(bits.reshape(decided.shape), decided)
-        rows.append(row)
-    return rows
-
-
 def _print_report() -> None:
     print(f"tonebank {__version__}")
     print(backend_info())
 
 
-def _demo(_args) -> int:
+def _demo(args) -> int:
+    from .demo import run_demo
+
+    run_demo(args.out, quick=args.quick, workers=args.workers)
+    return 0
+
+
+def _info(args) -> int:
     _print_report()
+    if args.no_check:
+        return 0
     print("\nKernel self-check against numpy.fft (relative max error):")
     rows = self_check()
     failures = 0
@@ -190,43 +79,100 @@ def _demo(_args) -> int:
         failures += not ok
         print(f"  n={n:<5d} {dtype:<10s} {direction:<8s} {err:9.2e}  {'ok' if ok else 'FAILED'}")
     print(f"\n{len(rows) - failures} of {len(rows)} checks passed")
-
-    print("\nLink demo (invented scenario): vineyard irrigation controllers report to the")
-    print("farm office over a 20 MHz, 64-subcarrier CP-OFDM link (IEEE 802.11a layout),")
-    print("16-QAM, AWGN, 200 symbols per point.  Engineering estimates from a simulation")
-    print("model, not measurements.")
-    print(f"  {'Es/N0':>6s}  {'bit errors':>14s}  {'BER':>9s}  {'95% interval':>21s}  "
-          f"{'theory':>9s}  {'EVM':>7s}  {'MER':>7s}")
-    for row in link_demo():
-        e = row["errors"]
-        low, high = e.interval(0.95)
-        print(f"  {row['esn0_db']:4.1f}dB  {e.errors:6d}/{e.total:<7d}  {e.rate:9.2e}  "
-              f"[{low:9.2e}, {high:9.2e}]  {row['ber_theory']:9.2e}  "
-              f"{row['evm_percent']:6.2f}%  {row['mer_db']:5.2f}dB")
-
-    print("\nThe same link between the rows of vines: a fading channel (3GPP TR 38.901")
-    print("TDL-A, 50 ns delay spread), a new static realisation per frame, 40 frames of")
-    print("20 symbols; the channel estimated from the preamble's long training symbols")
-    print("(a 16-tap DFT fit), one-tap MMSE equalisation, beside the true channel.")
-    print(f"  {'SNR':>6s}  {'EVM':>8s}  {'EVM, true':>9s}  {'BER':>9s}  {'BER, true':>9s}")
-    for row in fading_demo():
-        print(f"  {row['snr_db']:4.1f}dB  {row['evm_db']:6.1f}dB  {row['evm_perfect_db']:7.1f}dB"
-              f"  {row['errors'].rate:9.2e}  {row['errors_perfect'].rate:9.2e}")
     return 1 if failures else 0
 
 
-def _info(_args) -> int:
-    _print_report()
+def _sweep(args) -> int:
+    from .sweep import Sweep
+    from .sweep_config import ConfigError, load_config
+
+    try:
+        cfg = load_config(args.config)
+    except ConfigError as exc:
+        print(f"tonebank sweep: {exc}", file=sys.stderr)
+        return 2
+    output = cfg.output if args.output is None else args.output
+    workers = cfg.workers if args.workers is None else args.workers
+    if cfg.parameter == "snr_db":
+        job = Sweep.over_snr(cfg.link, cfg.values, stop=cfg.stop,
+                             frames_per_batch=cfg.frames_per_batch, seed=cfg.seed)
+    else:
+        job = Sweep.over(cfg.parameter, cfg.values, cfg.build, snr_db=cfg.snr_db, stop=cfg.stop,
+                         frames_per_batch=cfg.frames_per_batch, seed=cfg.seed)
+    try:
+        result = job.run(output, workers=workers, progress=not args.quiet)
+    except ValueError as exc:            # e.g. a result file that belongs to another sweep
+        print(f"tonebank sweep: {exc}", file=sys.stderr)
+        return 2
+    print(f"{cfg.parameter:>24s}  {'snr_db':>7s}  {'bits':>10s}  {'BER':>9s}  {'SER':>9s}  "
+          f"{'FER':>7s}")
+    for p in result.points:
+        print(f"{p.value!s:>24s}  {p.snr_db:7.2f}  {p.counts['bits']:10d}  {p.ber:9.2e}  "
+              f"{p.ser:9.2e}  {p.fer:7.4f}")
+    if args.csv is not None:
+        result.to_csv(args.csv)
+    if output is not None:
+        print(f"results: {output}")
     return 0
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"must be >= 1, got {value}")
+    return value
 
 
 def build_parser() -> argparse.ArgumentParser:
     """Return the argument parser of the ``tonebank`` command."""
-    parser = argparse.ArgumentParser(prog="tonebank", description=__doc__.splitlines()[0])
+    parser = argparse.ArgumentParser(
+        prog="tonebank", description=__doc__.splitlines()[0],
+        epilog="Every figure the commands print is an engineering estimate from a simulation "
+               "model, not a measurement or a compliance result.")
     parser.add_argument("--version", action="version", version=f"tonebank {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    sub.add_parser("demo", help="backend report, kernel self-check and a short link").set_defaults(run=_demo)
-    sub.add_parser("info", help="backend report").set_defaults(run=_info)
+
+    demo = sub.add_parser(
+        "demo", help="run the main job on an invented scenario and report",
+        description="Simulate an invented river-sensor telemetry link end to end (SLM, "
+                    "amplifier, fading on two antennas, LMMSE estimation, MRC): error rates "
+                    "with confidence intervals beside theory, EVM, PAPR, occupied bandwidth and "
+                    "out-of-band emission, throughput.  With --out, also write the figures "
+                    "(PNG), results.csv and the sweep's result file.")
+    demo.add_argument("--out", metavar="DIR", default=None,
+                      help="folder for figures and tables (created if missing); none: print only")
+    demo.add_argument("--quick", action="store_true",
+                      help="a reduced run (fewer points and frames), a few seconds")
+    demo.add_argument("--workers", type=_positive_int, default=1, metavar="N",
+                      help="processes for the error-rate sweep (default 1)")
+    demo.set_defaults(run=_demo)
+
+    info = sub.add_parser(
+        "info", help="backend report and kernel self-check",
+        description="Print which kernel backend runs (compiled C or the numpy fallback), how "
+                    "it was built, and a self-check of the FFT against numpy.fft.")
+    info.add_argument("--no-check", action="store_true", help="skip the self-check")
+    info.set_defaults(run=_info)
+
+    sweep = sub.add_parser(
+        "sweep", help="run an error-rate sweep described in a TOML file",
+        description="Run the sweep a TOML file describes (see tonebank.sweep_config for the "
+                    "keys).  The file is checked completely first: a mistake is reported with "
+                    "its line and key and nothing is written.  Results go point by point to "
+                    "the output file; running the same command again resumes an interrupted "
+                    "sweep.")
+    sweep.add_argument("config", metavar="CONFIG", help="the sweep's TOML file")
+    sweep.add_argument("--workers", type=_positive_int, default=None, metavar="N",
+                       help="processes (default: sweep.workers of the file)")
+    sweep.add_argument("--output", metavar="FILE", default=None,
+                       help="result file, JSON lines (default: sweep.output of the file)")
+    sweep.add_argument("--csv", metavar="FILE", default=None,
+                       help="also write the results as CSV")
+    sweep.add_argument("--quiet", action="store_true", help="no progress line")
+    sweep.set_defaults(run=_sweep)
     return parser
 
 

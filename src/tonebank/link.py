@@ -32,6 +32,7 @@ measurements of any equipment.
 from __future__ import annotations
 
 import math
+from dataclasses import asdict, dataclass
 from typing import NamedTuple
 
 import numpy as np
@@ -64,28 +65,17 @@ def _choice(value, name: str, allowed: tuple) -> str:
     return value
 
 
-class _Frozen:
-    """Attribute assignment is refused once ``__init__`` has finished."""
-
-    __slots__ = ()
-
-    def __setattr__(self, key, value):
-        if getattr(self, "_done", False):
-            raise AttributeError(f"{type(self).__name__} is immutable; build a new one")
-        object.__setattr__(self, key, value)
-
-    def __getstate__(self):
-        return {k: getattr(self, k) for k in self.__slots__}
-
-    def __setstate__(self, state):
-        for k, v in state.items():
-            object.__setattr__(self, k, v)
+def _set(obj, **values) -> None:
+    """Set the fields of a frozen dataclass from its own ``__post_init__``."""
+    for key, value in values.items():
+        object.__setattr__(obj, key, value)
 
 
 # ---- transmitter stages -------------------------------------------------------------
 
 
-class Clipping(_Frozen):
+@dataclass(frozen=True)
+class Clipping:
     """Clip the synthesized samples at a ratio above their RMS (:func:`tonebank.papr.clip`).
 
     Parameters
@@ -100,31 +90,28 @@ class Clipping(_Frozen):
     Clipping(clip_ratio_db=6.0)
     """
 
-    __slots__ = ("clip_ratio_db", "_done")
+    clip_ratio_db: float
 
-    def __init__(self, clip_ratio_db):
-        self.clip_ratio_db = real(clip_ratio_db, "clip_ratio_db")
-        self._done = True
-
-    def __repr__(self):
-        return f"Clipping(clip_ratio_db={self.clip_ratio_db!r})"
+    def __post_init__(self):
+        _set(self, clip_ratio_db=real(self.clip_ratio_db, "clip_ratio_db"))
 
     def describe(self) -> dict:
         """JSON-ready description."""
-        return {"kind": "clipping", "clip_ratio_db": self.clip_ratio_db}
+        return {"kind": "clipping", **asdict(self)}
 
 
-class ClipAndFilter(_Frozen):
+@dataclass(frozen=True)
+class ClipAndFilter:
     """Iterative clipping and filtering of each symbol (:func:`tonebank.papr.clip_and_filter`).
 
     Parameters
     ----------
     clip_ratio_db : float
         Clipping level over the RMS amplitude, dB.
-    iterations : int, default 4
-        Clip-and-filter passes.
-    oversampling : int, default 4
-        Oversampling of the peak search.
+    iterations : int, optional
+        Clip-and-filter passes (default 4).
+    oversampling : int, optional
+        Oversampling of the peak search (default 4).
 
     Examples
     --------
@@ -133,25 +120,22 @@ class ClipAndFilter(_Frozen):
     2
     """
 
-    __slots__ = ("clip_ratio_db", "iterations", "oversampling", "_done")
+    clip_ratio_db: float
+    iterations: int = 4
+    oversampling: int = 4
 
-    def __init__(self, clip_ratio_db, *, iterations=4, oversampling=4):
-        self.clip_ratio_db = real(clip_ratio_db, "clip_ratio_db")
-        self.iterations = integer(iterations, "iterations", minimum=1)
-        self.oversampling = integer(oversampling, "oversampling", minimum=1)
-        self._done = True
-
-    def __repr__(self):
-        return (f"ClipAndFilter(clip_ratio_db={self.clip_ratio_db!r}, "
-                f"iterations={self.iterations}, oversampling={self.oversampling})")
+    def __post_init__(self):
+        _set(self, clip_ratio_db=real(self.clip_ratio_db, "clip_ratio_db"),
+             iterations=integer(self.iterations, "iterations", minimum=1),
+             oversampling=integer(self.oversampling, "oversampling", minimum=1))
 
     def describe(self) -> dict:
         """JSON-ready description."""
-        return {"kind": "clip_and_filter", "clip_ratio_db": self.clip_ratio_db,
-                "iterations": self.iterations, "oversampling": self.oversampling}
+        return {"kind": "clip_and_filter", **asdict(self)}
 
 
-class Amplifier(_Frozen):
+@dataclass(frozen=True)
+class Amplifier:
     """A power amplifier model driven at a back-off (:func:`tonebank.amplifier.drive`).
 
     Parameters
@@ -177,25 +161,19 @@ class Amplifier(_Frozen):
     6.0
     """
 
-    __slots__ = ("model", "input_backoff_db", "output_backoff_db", "_done")
+    model: AmplifierModel
+    input_backoff_db: float | None = None
+    output_backoff_db: float | None = None
 
-    def __init__(self, model, *, input_backoff_db=None, output_backoff_db=None):
-        if not isinstance(model, AmplifierModel):
+    def __post_init__(self):
+        if not isinstance(self.model, AmplifierModel):
             raise TypeError("model must be a tonebank.amplifier.AmplifierModel, got "
-                            f"{type(model).__name__}")
-        if (input_backoff_db is None) == (output_backoff_db is None):
+                            f"{type(self.model).__name__}")
+        ibo, obo = self.input_backoff_db, self.output_backoff_db
+        if (ibo is None) == (obo is None):
             raise ValueError("give exactly one of input_backoff_db and output_backoff_db")
-        self.model = model
-        self.input_backoff_db = (None if input_backoff_db is None
-                                 else real(input_backoff_db, "input_backoff_db"))
-        self.output_backoff_db = (None if output_backoff_db is None
-                                  else real(output_backoff_db, "output_backoff_db"))
-        self._done = True
-
-    def __repr__(self):
-        which = ("input_backoff_db", self.input_backoff_db) if self.output_backoff_db is None \
-            else ("output_backoff_db", self.output_backoff_db)
-        return f"Amplifier({self.model!r}, {which[0]}={which[1]!r})"
+        _set(self, input_backoff_db=None if ibo is None else real(ibo, "input_backoff_db"),
+             output_backoff_db=None if obo is None else real(obo, "output_backoff_db"))
 
     def describe(self) -> dict:
         """JSON-ready description."""
@@ -207,26 +185,33 @@ class Amplifier(_Frozen):
 # ---- channel --------------------------------------------------------------------------
 
 
-class Fading(_Frozen):
-    """A multipath fading channel: one :class:`~tonebank.TappedDelayLine` realisation per frame.
+@dataclass(frozen=True)
+class Fading:
+    """A multipath fading channel: one tapped-delay-line realisation per frame.
 
     Parameters
     ----------
     profile : tonebank.DelayProfile
         Path delays and powers (normalised: the mean power is kept).
-    max_doppler_hz : float, default 0.0
-        Maximum Doppler shift; 0 is block fading (static within a frame).
+    max_doppler_hz : float, optional
+        Maximum Doppler shift (default 0: block fading, static within a
+        frame).
     k_factor : float, optional
-        Rician K-factor of the first path (linear); None for Rayleigh.
-    n_rx : int, default 1
-        Receive branches, each its own independent realisation.
-    interpolation : {"sinc", "nearest"}, default "sinc"
-        How delays between samples are realised.
+        Rician K-factor of the first path (linear); None (default) for
+        Rayleigh.
+    n_rx : int, optional
+        Receive branches, each its own independent realisation (default 1).
+    interpolation : {"sinc", "nearest"}, optional
+        How delays between samples are realised (default ``"sinc"``).
 
     Raises
     ------
     TypeError, ValueError
-        As :class:`tonebank.TappedDelayLine` raises them, and for ``n_rx < 1``.
+        Arguments of the wrong type or out of range.
+
+    See Also
+    --------
+    tonebank.channel.TappedDelayLine : the realisation drawn per frame.
 
     Examples
     --------
@@ -237,24 +222,21 @@ class Fading(_Frozen):
     2
     """
 
-    __slots__ = ("profile", "max_doppler_hz", "k_factor", "n_rx", "interpolation", "_done")
+    profile: DelayProfile
+    max_doppler_hz: float = 0.0
+    k_factor: float | None = None
+    n_rx: int = 1
+    interpolation: str = "sinc"
 
-    def __init__(self, profile, *, max_doppler_hz=0.0, k_factor=None, n_rx=1,
-                 interpolation="sinc"):
-        if not isinstance(profile, DelayProfile):
+    def __post_init__(self):
+        if not isinstance(self.profile, DelayProfile):
             raise TypeError("profile must be a tonebank.DelayProfile, got "
-                            f"{type(profile).__name__}")
-        self.profile = profile
-        self.max_doppler_hz = real(max_doppler_hz, "max_doppler_hz", minimum=0.0)
-        self.k_factor = None if k_factor is None else real(k_factor, "k_factor", minimum=0.0)
-        self.n_rx = integer(n_rx, "n_rx", minimum=1)
-        self.interpolation = _choice(interpolation, "interpolation", ("sinc", "nearest"))
-        self._done = True
-
-    def __repr__(self):
-        return (f"Fading({self.profile!r}, max_doppler_hz={self.max_doppler_hz!r}, "
-                f"k_factor={self.k_factor!r}, n_rx={self.n_rx}, "
-                f"interpolation={self.interpolation!r})")
+                            f"{type(self.profile).__name__}")
+        _set(self, max_doppler_hz=real(self.max_doppler_hz, "max_doppler_hz", minimum=0.0),
+             k_factor=None if self.k_factor is None
+             else real(self.k_factor, "k_factor", minimum=0.0),
+             n_rx=integer(self.n_rx, "n_rx", minimum=1),
+             interpolation=_choice(self.interpolation, "interpolation", ("sinc", "nearest")))
 
     def realise(self, sample_rate: float, rng) -> TappedDelayLine:
         """One realisation (all ``n_rx`` branches) at ``sample_rate``."""
@@ -275,31 +257,33 @@ class Fading(_Frozen):
 # ---- receiver -------------------------------------------------------------------------
 
 
-class Receiver(_Frozen):
+@dataclass(frozen=True)
+class Receiver:
     """What the receiver knows and how it decides.
 
     Parameters
     ----------
-    estimation : {"pilots", "perfect"}, default "pilots"
+    estimation : {"pilots", "perfect"}, optional
         Estimate the channel from the pilots with a
-        :class:`tonebank.estimation.ChannelEstimator`, or use the true
-        response of the channel (and the transmitter's linear gain).
-    frequency, time : str, default "linear"
-        The estimator's interpolation methods (see
+        :class:`tonebank.estimation.ChannelEstimator` (default), or use
+        the true response of the channel (and the transmitter's linear
+        gain).
+    frequency, time : str, optional
+        The estimator's interpolation methods (default ``"linear"``, see
         :class:`~tonebank.estimation.ChannelEstimator`).  For ``"lmmse"``
         the assumed correlation is the link's own delay profile (or a
         single path without fading) and the SNR the point's bin SNR; for
         ``"wiener"`` the Doppler is the channel's.
     n_taps : int, optional
         Channel length for ``frequency="dft"``.
-    equalizer : {"mmse", "zf"}, default "mmse"
-        One-tap equaliser for a single receive branch.
-    combining : {"mrc", "egc", "selection"}, default "mrc"
-        How several receive branches are combined.
-    exact_llr : bool, default False
-        Exact LLRs instead of max-log.
-    slm_recovery : {"side", "blind"}, default "side"
-        How the SLM candidate index is found (see
+    equalizer : {"mmse", "zf"}, optional
+        One-tap equaliser for a single receive branch (default ``"mmse"``).
+    combining : {"mrc", "egc", "selection"}, optional
+        How several receive branches are combined (default ``"mrc"``).
+    exact_llr : bool, optional
+        Exact LLRs instead of max-log (default false).
+    slm_recovery : {"side", "blind"}, optional
+        How the SLM candidate index is found (default ``"side"``; see
         :meth:`tonebank.papr.SelectiveMapping.recover`).
 
     Examples
@@ -309,30 +293,30 @@ class Receiver(_Frozen):
     'lmmse'
     """
 
-    __slots__ = ("estimation", "frequency", "time", "n_taps", "equalizer", "combining",
-                 "exact_llr", "slm_recovery", "_done")
+    estimation: str = "pilots"
+    frequency: str = "linear"
+    time: str = "linear"
+    n_taps: int | None = None
+    equalizer: str = "mmse"
+    combining: str = "mrc"
+    exact_llr: bool = False
+    slm_recovery: str = "side"
 
-    def __init__(self, *, estimation="pilots", frequency="linear", time="linear", n_taps=None,
-                 equalizer="mmse", combining="mrc", exact_llr=False, slm_recovery="side"):
-        self.estimation = _choice(estimation, "estimation", ("pilots", "perfect"))
-        self.frequency = _choice(frequency, "frequency", ("linear", "spline", "dft", "lmmse"))
-        self.time = _choice(time, "time", ("linear", "average", "wiener"))
-        self.n_taps = None if n_taps is None else integer(n_taps, "n_taps", minimum=1)
-        self.equalizer = _choice(equalizer, "equalizer", ("mmse", "zf"))
-        self.combining = _choice(combining, "combining", ("mrc", "egc", "selection"))
-        if not isinstance(exact_llr, (bool, np.bool_)):
-            raise TypeError(f"exact_llr must be True or False, got {exact_llr!r}")
-        self.exact_llr = bool(exact_llr)
-        self.slm_recovery = _choice(slm_recovery, "slm_recovery", ("side", "blind"))
-        self._done = True
-
-    def __repr__(self):
-        return "Receiver(" + ", ".join(f"{k}={getattr(self, k)!r}"
-                                       for k in self.__slots__[:-1]) + ")"
+    def __post_init__(self):
+        if not isinstance(self.exact_llr, (bool, np.bool_)):
+            raise TypeError(f"exact_llr must be True or False, got {self.exact_llr!r}")
+        _set(self, estimation=_choice(self.estimation, "estimation", ("pilots", "perfect")),
+             frequency=_choice(self.frequency, "frequency", ("linear", "spline", "dft", "lmmse")),
+             time=_choice(self.time, "time", ("linear", "average", "wiener")),
+             n_taps=None if self.n_taps is None else integer(self.n_taps, "n_taps", minimum=1),
+             equalizer=_choice(self.equalizer, "equalizer", ("mmse", "zf")),
+             combining=_choice(self.combining, "combining", ("mrc", "egc", "selection")),
+             exact_llr=bool(self.exact_llr),
+             slm_recovery=_choice(self.slm_recovery, "slm_recovery", ("side", "blind")))
 
     def describe(self) -> dict:
         """JSON-ready description."""
-        return {k: getattr(self, k) for k in self.__slots__[:-1]}
+        return asdict(self)
 
 
 # ---- results --------------------------------------------------------------------------
@@ -341,7 +325,7 @@ class Receiver(_Frozen):
 class LinkResult(NamedTuple):
     """What :meth:`Link.run` counted over its frames.
 
-    ``counts`` holds additive tallies: the integers of :data:`ERROR_KEYS`
+    ``counts`` holds additive tallies: the integers of ``ERROR_KEYS``
     and float sums (``evm_error_energy`` and ``evm_reference_energy`` of
     the equalised data, ``papr_db_sum`` over frames, and where they apply
     ``slm_index_errors`` / ``slm_indices`` and
@@ -410,7 +394,7 @@ def add_counts(a: dict, b: dict) -> dict:
 # ---- the link -------------------------------------------------------------------------
 
 
-class Link(_Frozen):
+class Link:
     r"""A link described by parts, validated when built (immutable).
 
     Parameters
@@ -420,31 +404,32 @@ class Link(_Frozen):
         channel or sampled impairments.
     constellation : tonebank.Constellation
         Mapping of every data cell.
-    n_symbols : int, default 14
-        Symbols per frame.
+    n_symbols : int, optional
+        Symbols per frame (default 14).
     waveform : tonebank.Waveform, optional
         A waveform on ``plan`` (default :class:`tonebank.CpOfdm`).
         :class:`tonebank.FbmcOqam` needs ``Receiver(estimation="perfect")``
         and one receive branch.
     pilots : tonebank.PilotPattern, optional
         Where the pilots are (default: the plan's own pilots).
-    peak : SelectiveMapping or ClipAndFilter or Clipping, optional
+    peak : tonebank.papr.SelectiveMapping or ClipAndFilter or Clipping, optional
         Peak control before the amplifier.  Selective mapping carries
         the plan's pilots only (no separate ``pilots``).
     amplifier : Amplifier, optional
         The power amplifier and its back-off.
     channel : Fading, optional
         Multipath fading; None for AWGN only (one branch).
-    impairments : sequence of impairment stages, optional
-        Receiver front-end stages of :mod:`tonebank.channel`
+    impairments : tuple, optional
+        Receiver front-end stages of ``tonebank.channel``
         (``FrequencyOffset``, ``PhaseNoise``, ``IqImbalance``,
         ``DcOffset``, ...), applied after the noise, in order.  A stage
         with a ``with_rng`` method (phase noise) draws a new path per
         frame.  Stages that change the sample count are refused.
     receiver : Receiver, optional
         Default ``Receiver()``: pilot estimation, MMSE, MRC, max-log LLRs.
-    snr : {"esn0", "ebn0"}, default "esn0"
-        Meaning of ``snr_db`` in :meth:`run` (see the module notes).
+    snr : {"esn0", "ebn0"}, optional
+        Meaning of ``snr_db`` in :meth:`run` (default ``"esn0"``; see the
+        module notes).
 
     Raises
     ------
@@ -457,7 +442,7 @@ class Link(_Frozen):
 
     See Also
     --------
-    tonebank.sweep : error-rate curves over many runs.
+    tonebank.sweep.Sweep : error-rate curves over many runs.
 
     Notes
     -----
@@ -652,10 +637,19 @@ class Link(_Frozen):
         args.update(changes)
         return Link(args.pop("plan"), args.pop("constellation"), **args)
 
+    def __setattr__(self, key, value):
+        if getattr(self, "_done", False):
+            raise AttributeError("Link is immutable; build a new one (see replace())")
+        object.__setattr__(self, key, value)
+
     def __getstate__(self):
-        state = super().__getstate__()
+        state = {k: getattr(self, k) for k in self.__slots__}
         state["_estimators"] = {}            # rebuilt on first use
         return state
+
+    def __setstate__(self, state):
+        for key, value in state.items():
+            object.__setattr__(self, key, value)
 
     # ---- SNR ------------------------------------------------------------------------
 
@@ -690,7 +684,7 @@ class Link(_Frozen):
         rng : numpy.random.Generator or int, optional
             Source of the bits, channel realisations, noise and impairment
             paths.  Same seed, same counts, on either kernel backend.
-        detail : bool, default False
+        detail : bool, optional
             Also return the equalised symbols and channels
             (:attr:`LinkResult.detail`).
 

@@ -61,8 +61,8 @@ written.  An example, every key shown (values are examples; only
     [sweep.stop]
     min_errors = 100            # stop a point after this many errors ...
     max_bits = 1e6              # ... or this many bits
-    count = "bit"               # bit, symbol or frame errors
-    # relative_precision = 0.2  # or when the interval is this tight ...
+    watch = "bit"               # count bit, symbol or frame errors
+    # relative_half_width = 0.2 # or when the interval is this tight ...
     # confidence = 0.95         # ... at this confidence
 
 The format is the project's own; it is read with :mod:`tomllib`
@@ -74,6 +74,7 @@ from __future__ import annotations
 import functools
 import math
 import re
+import pathlib
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -99,7 +100,8 @@ class SweepConfig(NamedTuple):
 
     #: The link at the first point (all points were built once to check them).
     link: Link
-    #: The swept key: ``"snr_db"`` or a dotted link key such as ``"amplifier.input_backoff_db"``.
+    #: Name of the swept key, ``"snr_db"`` or a dotted link key such as
+    #: ``"amplifier.input_backoff_db"``.
     parameter: str
     #: The values of the swept key.
     values: tuple
@@ -111,12 +113,13 @@ class SweepConfig(NamedTuple):
     seed: int
     #: Frames per unit of work.
     frames_per_batch: int
-    #: Parallel workers (1: in this process).
+    #: Number of worker processes (1 runs in this process).
     workers: int
     #: Result file (JSON lines), or None.
-    output: Path | None
-    #: The stopping rule's keys (``min_errors``, ``max_bits``, ``count``,
-    #: ``relative_precision``, ``confidence``) as given.
+    output: pathlib.Path | None
+    #: Keyword arguments of :class:`tonebank.sweep.StopRule` (``min_errors``,
+    #: ``max_bits``, ``max_frames``, ``relative_half_width``, ``confidence``,
+    #: ``watch``) as given.
     stop: dict
 
 
@@ -504,14 +507,14 @@ def parse_config(text: str, *, source: str = "<config>", base: Path | None = Non
     if stop_table is not None:
         for name, kind, minimum in (("min_errors", "int", 1), ("max_bits", "int", 1),
                                     ("max_frames", "int", 1),
-                                    ("relative_precision", "float", 0.0),
+                                    ("relative_half_width", "float", 0.0),
                                     ("confidence", "float", 0.0)):
             value = stop_table.get(name, kind, minimum=minimum)
             if value is not None:
                 stop[name] = value
-        count = stop_table.get("count", "str", choices=("bit", "symbol", "frame"))
-        if count is not None:
-            stop["count"] = count
+        watch = stop_table.get("watch", "str", choices=("bit", "symbol", "frame"))
+        if watch is not None:
+            stop["watch"] = watch
         if stop.get("confidence", 0.5) >= 1.0 or stop.get("confidence", 0.5) <= 0.0:
             stop_table.fail("confidence", f"must be between 0 and 1, got {stop['confidence']!r}")
         stop_table.done()
