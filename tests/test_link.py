@@ -143,6 +143,14 @@ def test_amplifier_backoff_trades_distortion():
         link = Link(plan, qam, n_symbols=6, pilots=pilots,
                     amplifier=Amplifier(RappAmplifier(smoothness=2.0), input_backoff_db=ibo))
         evm.append(link.run(10, 45.0, rng=1).evm_percent)
+        # With the amplifier's linear gain known and little noise, what the
+        # receiver sees is the distortion falling on the used subcarriers: a
+        # share of drive()'s figure, which counts all distortion (Bussgang: the
+        # distortion is uncorrelated with the input; its spread over the band
+        # is not white, hence the wide bounds -- common practice, no source).
+        known = link.replace(receiver=Receiver(estimation="perfect")).run(10, 45.0, rng=1)
+        share = known.evm_percent / known.amplifier_evm_percent
+        assert 0.6 < share < 1.05, (ibo, share)
     assert evm[0] > 2 * evm[1]
     # Far from saturation a soft limiter is linear: the link is the plain one.
     lin = Link(plan, qam, n_symbols=6, pilots=pilots, receiver=Receiver(estimation="perfect"),

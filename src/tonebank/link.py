@@ -328,8 +328,8 @@ class LinkResult(NamedTuple):
     ``counts`` holds additive tallies: the integers of ``ERROR_KEYS``
     and float sums (``evm_error_energy`` and ``evm_reference_energy`` of
     the equalised data, ``papr_db_sum`` over frames, and where they apply
-    ``slm_index_errors`` / ``slm_indices`` and
-    ``estimate_error_energy`` / ``estimate_cells``).  Two results add with
+    ``slm_index_errors`` / ``slm_indices``, ``amplifier_evm2_sum`` (squared
+    EVM times frames) and ``estimate_error_energy`` / ``estimate_cells``).  Two results add with
     :func:`add_counts`; the properties below read any such dict.
     """
 
@@ -369,6 +369,14 @@ class LinkResult(NamedTuple):
     def mean_papr_db(self) -> float:
         """Mean PAPR of the transmitted frames, dB."""
         return self.counts["papr_db_sum"] / self.counts["frames"]
+
+    @property
+    def amplifier_evm_percent(self) -> float | None:
+        """RMS EVM the amplifier adds (all distortion, before the channel), percent."""
+        c = self.counts
+        if "amplifier_evm2_sum" not in c:
+            return None
+        return 100.0 * math.sqrt(c["amplifier_evm2_sum"] / c["frames"])
 
     @property
     def estimate_mse(self) -> float | None:
@@ -709,7 +717,7 @@ class Link:
         grid, slm_index = self._place(sent)
         samples = self._synthesize(grid)
         counts["papr_db_sum"] = float(np.sum(_papr.papr_db(samples, axis=-1)))
-        samples, tx_gain = self._amplify(samples)
+        samples, tx_gain = self._amplify(samples, counts)
         power = float(np.mean(np.abs(samples) ** 2))
         noise_var = power * 10.0 ** (-self.sample_snr_db(snr_db) / 10.0)
 
@@ -777,7 +785,7 @@ class Link:
             samples = _papr.clip(samples, self.peak.clip_ratio_db)
         return samples
 
-    def _amplify(self, samples: np.ndarray):
+    def _amplify(self, samples: np.ndarray, counts: dict):
         """Amplifier output and the linear gain from the synthesized samples to it."""
         if self.amplifier is None:
             return samples, 1.0
@@ -786,6 +794,8 @@ class Link:
                     output_backoff_db=a.output_backoff_db)
         # drive() rescales its input to the back-off, then fits the gain g of
         # the output on that scaled input: the overall linear gain is both.
+        # Weighted by frames, so batches add to the mean over all frames.
+        counts["amplifier_evm2_sum"] = (out.evm_percent / 100.0) ** 2 * samples.shape[0]
         p_in = float(np.mean(np.abs(samples) ** 2))
         target = a.model.input_saturation ** 2 * 10.0 ** (-out.input_backoff_db / 10.0)
         return out.samples, out.gain * math.sqrt(target / p_in)
