@@ -110,3 +110,8 @@ __all__ = [
     "theory",
     "__version__",
 ]
+
+# `tonebank bench`: throughput and latency of every kernel op on a target CPU.
+from . import target_bench  # noqa: E402
+
+__all__ += ["target_bench"]

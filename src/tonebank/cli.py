@@ -8,6 +8,9 @@
 ``tonebank sweep CONFIG``
     An error-rate sweep described in a TOML file
     (:mod:`tonebank.sweep_config`), resumable through its result file.
+``tonebank bench [--quick] [--json FILE] [--compare A.json B.json]``
+    Throughput and single-symbol latency of every kernel operation and
+    waveform on this CPU, on both backends (:mod:`tonebank.target_bench`).
 """
 
 from __future__ import annotations
@@ -126,6 +129,107 @@ def _positive_int(text: str) -> int:
     return value
 
 
+# -- tonebank bench ----------------------------------------------------------
+# Throughput and latency on the CPU at hand (tonebank.target_bench); a block
+# of its own so that it merges apart from the commands above.
+
+
+def _bench_sizes(text: str) -> tuple[int, ...]:
+    """argparse type of ``--sizes``: comma-separated FFT sizes."""
+    from .target_bench import _check_sizes
+
+    try:
+        return _check_sizes(tuple(int(part) for part in text.split(",")))
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(
+            f"{text!r} is not a list of sizes ({exc}); e.g. --sizes 64,1024") from None
+
+
+def _bench_seconds(text: str) -> float:
+    """argparse type of ``--target-time``: seconds, > 0 and <= 60."""
+    try:
+        value = float(text)
+    except ValueError:
+        value = float("nan")
+    if not 0 < value <= 60:
+        raise argparse.ArgumentTypeError(f"{text!r} is not allowed; give seconds per "
+                                         "measurement, > 0 and <= 60")
+    return value
+
+
+def _bench(args) -> int:
+    from . import target_bench
+
+    try:
+        if args.compare is not None:
+            clash = [flag for flag, value in (("--quick", args.quick), ("--json", args.json),
+                                              ("--sizes", args.sizes),
+                                              ("--target-time", args.target_time),
+                                              ("--label", args.label)) if value]
+            if clash:
+                print(f"tonebank bench: error: --compare measures nothing and takes no "
+                      f"{', '.join(clash)}", file=sys.stderr)
+                return 2
+            path_a, path_b = args.compare
+            a = target_bench.load_report(path_a)
+            b = target_bench.load_report(path_b)
+            print(target_bench.format_comparison(a, b, name_a=path_a, name_b=path_b))
+            return 0
+        if args.json is not None:
+            # Fail before a minute of measuring, not after it.
+            folder = os.path.dirname(os.path.abspath(args.json))
+            if not os.path.isdir(folder):
+                raise target_bench.BenchReportError(
+                    f"cannot write the bench report {args.json!r}: folder {folder!r} "
+                    "does not exist")
+        report = target_bench.run_bench(
+            quick=args.quick, sizes=args.sizes, target_time=args.target_time,
+            label=args.label,
+            progress=lambda text: print(f"  measuring {text}", file=sys.stderr, flush=True))
+        print(target_bench.format_report(report))
+        if args.json is not None:
+            target_bench.save_report(report, args.json)
+            print(f"\nreport written to {args.json}")
+    except target_bench.BenchReportError as exc:
+        print(f"tonebank bench: error: {exc}", file=sys.stderr)
+        return 2
+    return 0 if report["checks_passed"] else 1
+
+
+_BENCH_DESCRIPTION = """\
+Measure, on this computer, the throughput (samples/s for a batch of 140 OFDM
+symbols per call) and the single-symbol latency (median time of a one-symbol
+call) of every kernel operation and waveform, on the C kernel and on the numpy
+fallback, each result checked once against numpy.  Prints a table with the
+CPU, core count, the C kernel's compiler and flags, and library versions.
+A full run takes about a minute, --quick a few seconds."""
+
+
+def _add_bench_parser(sub) -> None:
+    bench = sub.add_parser(
+        "bench", help="throughput and latency of every kernel op on this CPU",
+        description=_BENCH_DESCRIPTION, formatter_class=argparse.RawDescriptionHelpFormatter)
+    bench.add_argument("--quick", action="store_true",
+                       help="fewer sizes (64 and 1024) and a tenth of the timing budget: a "
+                            "few seconds instead of about a minute")
+    bench.add_argument("--json", metavar="FILE",
+                       help="also write the full report as JSON to FILE, for comparing "
+                            "targets with --compare")
+    bench.add_argument("--compare", nargs=2, metavar=("A.json", "B.json"),
+                       help="measure nothing; print B's speed relative to A's per op, size "
+                            "and backend from two reports written by --json")
+    bench.add_argument("--sizes", type=_bench_sizes, metavar="N[,N...]",
+                       help="FFT sizes to measure, comma-separated multiples of 16 from 32 "
+                            "to 8192 (default 64,256,1024,4096; with --quick 64,1024)")
+    bench.add_argument("--target-time", type=_bench_seconds, metavar="SECONDS",
+                       help="seconds of timing per measurement (default 0.2; with "
+                            "--quick 0.02); raise it on a noisy machine")
+    bench.add_argument("--label", metavar="TEXT",
+                       help="a name for this target, stored in the report and shown by "
+                            "--compare")
+    bench.set_defaults(run=_bench)
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Return the argument parser of the ``tonebank`` command."""
     parser = argparse.ArgumentParser(
@@ -173,6 +277,8 @@ def build_parser() -> argparse.ArgumentParser:
                        help="also write the results as CSV")
     sweep.add_argument("--quiet", action="store_true", help="no progress line")
     sweep.set_defaults(run=_sweep)
+
+    _add_bench_parser(sub)
     return parser
 
 
