@@ -31,7 +31,7 @@ def test_unknown_command_is_an_error():
     assert exc.value.code == 2
 
 
-@pytest.mark.parametrize("command", ["demo", "info", "sweep"])
+@pytest.mark.parametrize("command", ["demo", "info", "sweep", "bench"])
 def test_every_command_explains_itself(command, capsys):
     with pytest.raises(SystemExit) as exc:
         cli.main([command, "--help"])

@@ -25,6 +25,7 @@ from . import (
     presets,
     spectrum,
     sync,
+    target_bench,
     theory,
 )
 from .channel import (
@@ -107,11 +108,7 @@ __all__ = [
     "presets",
     "spectrum",
     "sync",
+    "target_bench",
     "theory",
     "__version__",
 ]
-
-# `tonebank bench`: throughput and latency of every kernel op on a target CPU.
-from . import target_bench  # noqa: E402
-
-__all__ += ["target_bench"]
