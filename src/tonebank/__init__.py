@@ -27,6 +27,8 @@ from . import (
     sync,
     theory,
 )
+# Error-rate sweeps (tonebank.sweep; results in tonebank.sweep_results).
+from . import sweep, sweep_results
 from .channel import (
     DcOffset,
     DelayProfile,
@@ -108,5 +110,8 @@ __all__ = [
     "spectrum",
     "sync",
     "theory",
+    # error-rate sweeps
+    "sweep",
+    "sweep_results",
     "__version__",
 ]
