@@ -1054,6 +1054,64 @@ def link_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- error-rate sweeps (test_14_sweep.py) ----
+
+#: Target of the sweep engine (our own, no source): the same sweep on two
+#: worker processes at least this many times faster than serial.  Only
+#: reachable when two cores are free: the figure is information on a
+#: shared machine, not a verdict on the code.
+TARGET_SWEEP_SPEEDUP_2 = 1.5
+
+
+def sweep_report(path: Path, stat: str = "median") -> str:
+    """The sweep section: serial vs 1 and 2 worker processes, speed-ups, waste."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    facts: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "sweep":
+            continue
+        try:
+            key = (str(info["case"]), str(info["impl"]))
+            rows[key[0]][key[1]] = float(bench["stats"][stat])
+            facts[key] = (int(info["batches"]), int(info["bits"]), int(info["discarded"]))
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Error-rate sweeps (test_14_sweep.py)", "------------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no sweep benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} time per sweep in milliseconds: uncoded BPSK over AWGN, 4 SNR",
+        "points, 8 frames of 10^4 bits per batch.  serial = workers=1 in the process;",
+        "pool1 / pool2 = a warm ProcessPoolExecutor of 1 / 2 processes passed as executor.",
+        "Mbit/s = simulated bits / time; speed-up = serial time / time; discarded =",
+        "speculative batches computed beyond a point's stop and thrown away (last round).",
+        "Case sleep: each batch sleeps 5 ms instead of computing (the scheduler's ceiling).",
+        "",
+    ]
+    table_rows = []
+    for case in sorted(rows):
+        serial = rows[case].get("serial")
+        for impl in ("serial", "pool1", "pool2"):
+            t = rows[case].get(impl)
+            if t is None:
+                continue
+            batches, bits, discarded = facts[(case, impl)]
+            table_rows.append([case, impl, f"{t * 1e3:.1f}", f"{bits / t / 1e6:.1f}",
+                               str(batches), str(discarded), fmt_ratio(ratio(serial, t))])
+    lines.append(table(table_rows, ["case", "impl", "ms", "Mbit/s", "batches", "discarded",
+                                    "speed-up"]))
+    lines += ["", "Sweep target (our own, no source; needs two free cores)"]
+    for case in sorted(rows):
+        speedup = ratio(rows[case].get("serial"), rows[case].get("pool2"))
+        verdict = "n/a" if speedup is None else (
+            "MET" if speedup >= TARGET_SWEEP_SPEEDUP_2 else "MISSED")
+        lines.append(f"- {case}: serial / pool2 >= {TARGET_SWEEP_SPEEDUP_2:g}: "
+                     f"{fmt_ratio(speedup)} {verdict}")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -1083,6 +1141,7 @@ def main(argv=None) -> int:
         print(loading_section)
     print(sync_report(args.json, args.stat))           # synchronisation
     print(impairments_report(args.json, args.stat))    # receiver impairments
+    print(sweep_report(args.json, args.stat))          # error-rate sweeps
     print(link_report(args.json, args.stat))           # link throughput
     return 0
 

@@ -24,6 +24,8 @@ from . import (
     papr,
     presets,
     spectrum,
+    sweep,
+    sweep_results,
     sync,
     target_bench,
     theory,
@@ -110,5 +112,8 @@ __all__ = [
     "sync",
     "target_bench",
     "theory",
+    # error-rate sweeps
+    "sweep",
+    "sweep_results",
     "__version__",
 ]
