@@ -61,7 +61,7 @@ def test_good_file_builds_the_link_it_describes(tmp_path):
     assert cfg.parameter == "amplifier.input_backoff_db" and cfg.values == (4.0, 6.0)
     assert cfg.snr_db == 20.0 and cfg.seed == 7
     assert cfg.output == tmp_path / "out.jsonl"
-    assert cfg.stop == {"min_errors": 50, "max_bits": 100000}
+    assert (cfg.stop.min_errors, cfg.stop.max_bits, cfg.stop.watch) == (50, 100000, "bit")
     link = cfg.link
     assert link.plan.n_fft == 64 and link.plan.n_pilots == 4 and link.n_rx == 2
     assert link.amplifier.input_backoff_db == 4.0

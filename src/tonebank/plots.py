@@ -464,6 +464,9 @@ def papr_ccdf_figure(papr_db, *, thresholds_db=None, theory=None, theory_label="
         ax.plot(tx, _positive_log(ty), "--", color="k" if len(theories) == 1 else
                 f"C{(len(curves) + j) % 10}", lw=1.2, label=label, gid=f"theory:{label}")
     ax.set_yscale("log")
+    # A measured CCDF resolves down to 1 / symbols: show one decade below
+    # that, so that a steep theory curve cannot squash the measurements.
+    ax.set_ylim(0.1 / max(v.size for _, v in curves), 1.5)
     ax.set_xlabel("PAPR threshold z (dB)")
     ax.set_ylabel("Pr(PAPR > z) (probability)")
     ax.grid(True, which="both", alpha=0.3)

@@ -117,10 +117,9 @@ class SweepConfig(NamedTuple):
     workers: int
     #: Result file (JSON lines), or None.
     output: pathlib.Path | None
-    #: Keyword arguments of :class:`tonebank.sweep.StopRule` (``min_errors``,
-    #: ``max_bits``, ``max_frames``, ``relative_half_width``, ``confidence``,
-    #: ``watch``) as given.
-    stop: dict
+    #: When each point stops (from ``[sweep.stop]``; the rule's defaults
+    #: where the table is absent).
+    stop: Any
 
 
 # ---- locating keys -------------------------------------------------------------------
@@ -518,6 +517,12 @@ def parse_config(text: str, *, source: str = "<config>", base: Path | None = Non
         if stop.get("confidence", 0.5) >= 1.0 or stop.get("confidence", 0.5) <= 0.0:
             stop_table.fail("confidence", f"must be between 0 and 1, got {stop['confidence']!r}")
         stop_table.done()
+    from .sweep import StopRule
+
+    try:
+        rule = StopRule(**stop)
+    except (TypeError, ValueError) as exc:
+        (stop_table or sweep).fail(None, f"not a valid stopping rule: {exc}")
     sweep.done()
     path = None
     if output is not None:
@@ -525,7 +530,7 @@ def parse_config(text: str, *, source: str = "<config>", base: Path | None = Non
         if not path.is_absolute():
             path = (base or Path.cwd()) / path
     return SweepConfig(link, parameter, values, snr_db, build, seed, per_batch, workers, path,
-                       stop)
+                       rule)
 
 
 def _constant(link: Link, _value) -> Link:
