@@ -65,7 +65,7 @@ def river_sensor_link() -> Link:
     >>> from tonebank.demo import river_sensor_link
     >>> link = river_sensor_link()
     >>> link.n_rx, link.bits_per_frame
-    (2, 3360)
+    (2, 3168)
     """
     # Pilot signs from a fixed pseudo-random sequence: equal pilots would add up
     # to a pulse train in time, raising the PAPR and meeting the amplifier's
@@ -198,15 +198,15 @@ def run_demo(out_dir=None, *, quick: bool = False, workers: int = 1, stream=None
     out_dir : str or os.PathLike, optional
         Folder for the figures (PNG), ``results.csv`` and ``sweep.jsonl``;
         created if missing.  None: print only (no files, no figures).
-    quick : bool, default False
-        A reduced run (fewer frames and points) for tests: seconds instead
-        of most of a minute.
-    workers : int, default 1
-        Processes for the sweep.
-    stream : file-like, optional
-        Where the report goes (default standard output).
-    seed : int, default 2026
-        Root seed of everything random.
+    quick : bool, optional
+        A reduced run (fewer frames and points, default false), for tests.
+    workers : int, optional
+        Processes for the sweep (default 1).
+    stream : object, optional
+        A text stream with ``write`` where the report goes (default
+        standard output).
+    seed : int, optional
+        Root seed of everything random (default 2026).
 
     Returns
     -------

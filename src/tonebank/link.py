@@ -191,7 +191,7 @@ class Fading:
 
     Parameters
     ----------
-    profile : tonebank.DelayProfile
+    profile : tonebank.channel.DelayProfile
         Path delays and powers (normalised: the mean power is kept).
     max_doppler_hz : float, optional
         Maximum Doppler shift (default 0: block fading, static within a
@@ -323,7 +323,7 @@ class Receiver:
 
 
 class LinkResult(NamedTuple):
-    """What :meth:`Link.run` counted over its frames.
+    """What :meth:`tonebank.link.Link.run` counted over its frames.
 
     ``counts`` holds additive tallies: the integers of ``ERROR_KEYS``
     and float sums (``evm_error_energy`` and ``evm_reference_energy`` of
@@ -467,8 +467,8 @@ class Link:
     >>> plan = tonebank.CarrierPlan.centered(64, 52, pilot_spacing=13, cp_length=16)
     >>> link = Link(plan, tonebank.Constellation.qpsk(), n_symbols=4)
     >>> r = link.run(20, 12.0, rng=1)
-    >>> r.counts["bits"], r.counts["bit_errors"] < 20
-    (19200, True)
+    >>> r.counts["bits"], r.counts["frames"], bool(r.ber < 0.05)
+    (7680, 20, True)
     """
 
     __slots__ = ("plan", "constellation", "n_symbols", "waveform", "pilots", "peak",

@@ -65,7 +65,7 @@ written.  An example, every key shown (values are examples; only
     # relative_half_width = 0.2 # or when the interval is this tight ...
     # confidence = 0.95         # ... at this confidence
 
-The format is the project's own; it is read with :mod:`tomllib`
+The format is the project's own; it is read with ``tomllib``
 (Python 3.11 and later) or ``tomli`` (the ``config`` extra) before that.
 """
 
@@ -538,7 +538,7 @@ def _constant(link: Link, _value) -> Link:
 
 
 def load_config(path) -> SweepConfig:
-    """Read and check a sweep file (see :func:`parse_config`).
+    """Read and check a sweep file (see :func:`tonebank.sweep_config.parse_config`).
 
     Parameters
     ----------
