@@ -155,3 +155,4 @@ from ._numpy_fbmc import fbmc_runner  # noqa: E402,F401
 from ._numpy_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401
 from ._numpy_papr import slm_runner  # noqa: E402,F401
 from ._numpy_sync import halves_correlation  # noqa: E402,F401
+from ._numpy_fixed import fixed_fft_runner  # noqa: E402,F401
