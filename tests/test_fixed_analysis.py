@@ -160,3 +160,38 @@ def test_recommendation_meets_its_target():
 def test_bad_arguments_are_named(call, error, match):
     with pytest.raises(error, match=match):
         call()
+
+
+def test_exported_chain_checks_clean_and_a_corrupted_port_file_is_located(tmp_path):
+    # The checker is tonebank.vectors (its own tests compare the files with numpy's
+    # little-endian dtypes and zlib.crc32); here: a fixed chain's vectors read back
+    # equal to the chain, a copy checks clean, and one changed value is reported
+    # at its index.
+    from tonebank.vectors import check_vectors, read_vectors
+    plan = tonebank.CarrierPlan.centered(64, 48, cp_length=16)
+    qam = tonebank.Constellation.qam(64)
+    rng = np.random.default_rng(4)
+    grid = plan.place(qam.map(rng.integers(0, 2, 3 * 48 * 6)))
+    ofdm = FixedCpOfdm(plan, fft_schedule="block")
+    ref = tmp_path / "ref"
+    manifest = ofdm.export(ref, grid)
+    back = read_vectors(ref)
+    chain = ofdm.chain(grid)
+    assert np.array_equal(back["samples"], chain.samples)
+    assert np.array_equal(back["rx_codes"], chain.rx_codes)
+    assert [n for n in manifest.names if n.startswith("ifft_stage_")] == [
+        f"ifft_stage_{k}" for k in range(1, 7)]
+    assert np.array_equal(back["ifft_stage_6"], chain.time_codes)
+    port = tmp_path / "port"
+    port.mkdir()
+    for name in ("samples", "rx_codes"):
+        (port / f"{name}.bin").write_bytes((ref / f"{name}.bin").read_bytes())
+    assert check_vectors(ref, port, names=["samples", "rx_codes"]).ok
+    bad = back["rx_codes"].copy()
+    bad[2, 17, 1] += 1                                  # symbol 2, bin 17, imaginary part
+    (port / "rx_codes.bin").write_bytes(bad.astype("<i2").tobytes())
+    result = check_vectors(ref, port, names=["samples", "rx_codes"])
+    assert not result.ok
+    first = result["rx_codes"].first
+    assert first.index[:2] == (2, 17) and first.part == "im"
+    assert int(first.got) == int(first.expected) + 1

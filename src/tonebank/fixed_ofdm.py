@@ -232,3 +232,89 @@ class FixedCpOfdm:
         out = self.to_grid(rx, t_exp + r_exp)
         return FixedChain(grid_codes, time_codes, t_exp, samples, rx, r_exp, out,
                           (sat_q, sat_t, sat_r))
+
+    def export(self, folder, grid, *, c_header: str | None = None, overwrite: bool = False):
+        """Write the whole chain for ``grid`` as firmware test vectors (:mod:`tonebank.vectors`).
+
+        Arrays, in stage order (Q codes as ``(..., 2)`` = (re, im) pairs):
+        ``grid_codes`` (symbol, bin); ``ifft_stage_1`` ... ``ifft_stage_m``
+        and ``time_codes`` (symbol, sample); ``time_exponent`` (symbol);
+        ``samples`` (sample, with prefixes); ``fft_stage_1`` ...
+        ``fft_stage_m`` and ``rx_codes`` (symbol, bin); ``rx_exponent``
+        (symbol); ``saturations`` (grid, inverse FFT, forward FFT).  The
+        metadata give the format, schedules, rounding, grid scale, FFT size
+        and prefix lengths.
+
+        Parameters
+        ----------
+        folder : str or os.PathLike
+            Where the files go (created if missing).
+        grid : array_like of complex
+            ``(S, n_fft)``, natural bin order.
+        c_header : str, optional
+            Also write ``<c_header>.h`` with the arrays as C initialisers.
+        overwrite : bool, optional
+            Replace an existing set of vectors (default false).
+
+        Returns
+        -------
+        tonebank.vectors.Manifest
+
+        Raises
+        ------
+        ValueError, TypeError
+            As :meth:`chain` and :func:`tonebank.vectors.write_vectors` raise them.
+
+        Examples
+        --------
+        >>> import tempfile, numpy as np, tonebank
+        >>> from tonebank.fixed_ofdm import FixedCpOfdm
+        >>> from tonebank.vectors import read_vectors
+        >>> plan = tonebank.CarrierPlan.centered(16, 12, cp_length=4)
+        >>> grid = plan.place(tonebank.Constellation.qpsk().map(np.zeros(2 * 12 * 2, int)))
+        >>> with tempfile.TemporaryDirectory() as folder:
+        ...     manifest = FixedCpOfdm(plan).export(folder, grid)
+        ...     back = read_vectors(folder)
+        >>> manifest.names[:3], back["samples"].shape
+        (('grid_codes', 'ifft_stage_1', 'ifft_stage_2'), (40, 2))
+        """
+        from .vectors import write_vectors
+
+        chain = self.chain(grid)
+        arrays = {"grid_codes": chain.grid_codes}
+        axes = {"grid_codes": ("symbol", "bin")}
+        pairs = ["grid_codes"]
+        for k, stage in enumerate(self._ifft.stages(chain.grid_codes), start=1):
+            arrays[f"ifft_stage_{k}"] = stage
+            axes[f"ifft_stage_{k}"] = ("symbol", "sample")
+            pairs.append(f"ifft_stage_{k}")
+        arrays["time_codes"] = chain.time_codes
+        arrays["time_exponent"] = np.asarray(chain.time_exponent, dtype=np.int32)
+        arrays["samples"] = chain.samples
+        bodies = chain.time_codes                  # the prefix-free windows, as received
+        for k, stage in enumerate(self._fft.stages(bodies), start=1):
+            arrays[f"fft_stage_{k}"] = stage
+            axes[f"fft_stage_{k}"] = ("symbol", "bin")
+            pairs.append(f"fft_stage_{k}")
+        arrays["rx_codes"] = chain.rx_codes
+        arrays["rx_exponent"] = np.asarray(chain.rx_exponent, dtype=np.int32)
+        arrays["saturations"] = np.asarray(chain.saturations, dtype=np.int64)
+        pairs += ["time_codes", "samples", "rx_codes"]
+        axes.update(time_codes=("symbol", "sample"), time_exponent=("symbol",),
+                    samples=("sample",), rx_codes=("symbol", "bin"), rx_exponent=("symbol",))
+        plan = self._plan
+        metadata = {
+            "format": self._fmt, "rounding": self._rounding, "grid_scale": self._scale,
+            "n_fft": plan.n_fft, "n_symbols": int(chain.grid_codes.shape[0]),
+            "cp_lengths": ",".join(str(int(c)) for c in plan.cp_for(chain.grid_codes.shape[0])),
+            "ifft_schedule": _schedule_text(self._ifft),
+            "fft_schedule": _schedule_text(self._fft),
+        }
+        return write_vectors(folder, arrays, metadata=metadata, complex_pairs=pairs, axes=axes,
+                             c_header=c_header, overwrite=overwrite)
+
+
+def _schedule_text(fft: FixedFft) -> str:
+    """A schedule for a manifest: its name, or the shifts joined by commas."""
+    return fft.schedule if isinstance(fft.schedule, str) else ",".join(map(str, fft.shifts))
+
