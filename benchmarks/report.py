@@ -1112,6 +1112,60 @@ def sweep_report(path: Path, stat: str = "median") -> str:
     return "\n".join(lines)
 
 
+# ---- fixed-point FFT (test_16_fixed.py) ----
+
+#: Q15 on C against the numpy integer model at n = 1024 (our own target, no source).
+TARGET_FIXED_SPEEDUP = 5.0
+FIXED_CASES = ("q15_c", "q15_c_block", "q31_c", "f32_c", "q15_numpy")
+
+
+def fixed_report(path: Path, stat: str = "median") -> str:
+    """The fixed-point FFT section: Q15 / Q31 on C against float32 C and the numpy model."""
+    data = json.loads(path.read_text(encoding="utf-8"))
+    rows: dict = defaultdict(dict)
+    batches: dict = {}
+    for bench in data.get("benchmarks", []):
+        info = bench.get("extra_info") or {}
+        if info.get("kind") != "fixed_fft":
+            continue
+        try:
+            n = int(info["n"])
+            rows[n][str(info["case"])] = float(bench["stats"][stat])
+            batches[n] = int(info["batch"])
+        except (KeyError, TypeError, ValueError):
+            continue
+    lines = ["", "Fixed-point FFT (test_16_fixed.py)", "----------------------------------"]
+    if not rows:
+        return "\n".join(lines + ["(no fixed-point FFT benchmarks in this run)"])
+    lines += [
+        f"{stat.capitalize()} time per call of 100 transforms in microseconds.  q15 / q31 =",
+        "FixedFft schedule 'halve' on the C backend; q15 block = block floating point;",
+        "f32 = FftPlan complex64 on C; q15 numpy = the integer model.  ns/bfly = q15 C time",
+        "per radix-2 butterfly; f32/q15 = float32 time / Q15 time; numpy/q15 = model / C.",
+        "",
+    ]
+    table_rows = []
+    for n in sorted(rows):
+        t = rows[n]
+        q15 = t.get("q15_c")
+        bfly = None if q15 is None else q15 / (batches[n] * n // 2 * (n.bit_length() - 1))
+        table_rows.append([str(n), *(fmt_us(t.get(c)) for c in FIXED_CASES),
+                           "-" if bfly is None else f"{bfly * 1e9:.2f}",
+                           fmt_ratio(ratio(t.get("f32_c"), q15)),
+                           fmt_ratio(ratio(t.get("q15_numpy"), q15))])
+    lines.append(table(table_rows, ["n", "q15 C", "q15 block C", "q31 C", "f32 C",
+                                    "q15 numpy", "ns/bfly", "f32/q15", "numpy/q15"]))
+    speedup = ratio(rows.get(1024, {}).get("q15_numpy"), rows.get(1024, {}).get("q15_c"))
+    lines += ["", "Fixed-point target (our own, no source)"]
+    if speedup is None:
+        lines.append("  q15 n=1024, numpy model / C: n/a (missing from this run)")
+    else:
+        ok = "MET" if speedup >= TARGET_FIXED_SPEEDUP else "MISSED"
+        lines.append(f"  q15 n=1024, numpy model / C >= {TARGET_FIXED_SPEEDUP:g}: "
+                     f"{speedup:.2f} {ok}")
+    return "\n".join(lines)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("json", type=Path, help="pytest-benchmark JSON file")
@@ -1143,6 +1197,7 @@ def main(argv=None) -> int:
     print(impairments_report(args.json, args.stat))    # receiver impairments
     print(sweep_report(args.json, args.stat))          # error-rate sweeps
     print(link_report(args.json, args.stat))           # link throughput
+    print(fixed_report(args.json, args.stat))          # fixed-point FFT
     return 0
 
 

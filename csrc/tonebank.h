@@ -544,6 +544,88 @@ int tb_halves_correlation_f32(size_t batch, size_t n, size_t period, size_t wind
 int tb_halves_correlation_f64(size_t batch, size_t n, size_t period, size_t window,
                               const double *x, ptrdiff_t x_stride, double *p,
                               ptrdiff_t p_stride, double *r, ptrdiff_t r_stride);
+/* ---- fixed-point FFT: Q15 / Q31, radix 2, shifts, saturation ---------- */
+/* (tb_fixed.c, tb_fixed_impl.h) */
+
+/* Formats (distinct from TB_FLOAT32 / TB_FLOAT64): data int16_t with 15
+ * fraction bits, products and sums in int32_t (TB_Q15); data int32_t
+ * with 31 fraction bits, products and sums in int64_t (TB_Q31). */
+#define TB_Q15 15
+#define TB_Q31 31
+
+/* Rounding of every right shift: add half an LSB then shift (floor), or
+ * round exact halves to the even neighbour. */
+#define TB_ROUND_HALF_UP 0
+#define TB_ROUND_CONVERGENT 1
+
+/* Largest fixed-point transform size. */
+#define TB_FIXED_MAX_SIZE 65536
+
+/* Opaque, immutable plan of one fixed-point FFT configuration: size n =
+ * 2^m, format, twiddle table, per-stage shifts (or block floating
+ * point) and rounding.  The plan copies the tables it is given. */
+typedef struct tb_fixed_plan tb_fixed_plan;
+
+/* Create a plan.
+ *
+ *   n          a power of two, 2 .. TB_FIXED_MAX_SIZE;
+ *   format     TB_Q15 or TB_Q31;
+ *   twiddles   n/2 interleaved (re, im) pairs W[i], i < n/2, of the
+ *              format's type (int16_t for TB_Q15, int32_t for TB_Q31;
+ *              any alignment), used as given: pass the conjugate table
+ *              for an inverse transform.  Each pair must satisfy
+ *              |re| + |im| <= 2^(f+1) - 1 (true of any rounded point of
+ *              the unit circle), which keeps every product sum inside
+ *              its accumulator.  NULL: the plan computes the FORWARD
+ *              table, rint(cos(2 pi i / n) 2^f), rint(-sin(2 pi i / n)
+ *              2^f), saturated to [-2^f, 2^f - 1];
+ *   shifts     m bytes, the right shift (0, 1 or 2) of each stage, or
+ *              NULL for block floating point (per transform and stage,
+ *              0 if the stage input's largest component magnitude M <
+ *              2^(f-2), 1 if M < 2^(f-1), else 2);
+ *   rounding   TB_ROUND_HALF_UP or TB_ROUND_CONVERGENT.
+ *
+ * Errors (*plan_out set to NULL when plan_out is not NULL): TB_ERR_NULL
+ * (plan_out), TB_ERR_SIZE (n), TB_ERR_PRECISION (format), TB_ERR_ARG (a
+ * shift > 2, an unknown rounding, a twiddle pair out of bounds),
+ * TB_ERR_NOMEM. */
+int tb_fixed_plan_create(size_t n, int format, const void *twiddles,
+                         const unsigned char *shifts, int rounding,
+                         tb_fixed_plan **plan_out);
+
+/* Release a plan; NULL is accepted and ignored. */
+void tb_fixed_plan_destroy(tb_fixed_plan *plan);
+
+/* `count` transforms of n points, contiguous:
+ *
+ *     in:   | x0[0].re x0[0].im x0[1].re ... x0[n-1].im | x1[0].re ... |
+ *     out:  the same layout, natural order, format's type
+ *
+ * Radix 2, decimation in time: the input is copied into out in
+ * bit-reversed order, then m stages work in place in out.  Stage k (h =
+ * 2^k) combines a = x[g + j], b = x[g + j + h] of every group g of 2h
+ * points with w = W[j n / (2h)]:
+ *
+ *     t  = R(b w, f)                (each component rounded by f bits)
+ *     y0 = S(R(a + t, s_k))         y1 = S(R(a - t, s_k))
+ *
+ * R(v, k) shifts right by k bits with the plan's rounding, S saturates
+ * to [-2^f, 2^f - 1] and counts one saturation per clipped component.
+ * exponent[i] receives the total right shift of transform i (the sum
+ * of its stage shifts) and saturations[i] its saturation count; the
+ * float value of out is out * 2^exponent / 2^f.  No workspace; nothing
+ * allocated.
+ *
+ * in == out (the very same buffer) transforms in place; otherwise in and
+ * out must not overlap (TB_ERR_ARG when the address ranges overlap).
+ * Errors (nothing written): TB_ERR_NULL (plan, in, out, exponent or
+ * saturations, even when count == 0), TB_ERR_PRECISION (a TB_Q31 plan
+ * given to the _q15 function or the reverse), TB_ERR_ARG (overlap).
+ * count == 0 is a successful no-op. */
+int tb_fixed_fft_q15(const tb_fixed_plan *plan, size_t count, const int16_t *in,
+                     int16_t *out, int64_t *exponent, int64_t *saturations);
+int tb_fixed_fft_q31(const tb_fixed_plan *plan, size_t count, const int32_t *in,
+                     int32_t *out, int64_t *exponent, int64_t *saturations);
 /* ---- end cffi declarations ---- */
 
 #ifdef __cplusplus

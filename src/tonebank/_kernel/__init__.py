@@ -90,6 +90,18 @@ Each implementation module provides:
     analysis applies the matched filter the same way, transforms the
     delayed window and scales bin ``k`` by ``gain[k]``.  Same methods.
     Contract: :class:`tonebank._kernel._numpy_filterbank._FofdmRunner`.
+``fixed_fft_runner(n, precision, twiddles, shifts, convergent) -> runner``
+    Fixed-point FFT (:mod:`tonebank.fixedpoint`; C op ``tb_fixed_fft_q15``
+    / ``_q31``, ``csrc/tb_fixed.c``; modules ``_c_fixed`` /
+    ``_numpy_fixed``): ``precision`` ``"q15"`` or ``"q31"``, ``twiddles``
+    the quantised ``(n // 2, 2)`` table, ``shifts`` one right shift (0, 1
+    or 2) per radix-2 stage or None for block floating point,
+    ``convergent`` the rounding of every shift.  ``runner.run(x)`` takes
+    ``(B, n, 2)`` int16 / int32 codes, C-contiguous, and returns ``(out,
+    exponent, saturations)``: ``out`` of ``x``'s dtype and shape,
+    ``exponent`` and ``saturations`` int64 ``(B,)``.  The numpy integer
+    model is the specification and both give identical integers.
+    Contract: :class:`tonebank._kernel._numpy_fixed.FixedFftRunner`.
 ``info() -> dict``
     Facts for :func:`tonebank.backend_info`.
 

@@ -396,5 +396,4 @@ from ._c_fbmc import fbmc_runner  # noqa: E402,F401
 from ._c_filterbank import fofdm_runner, wola_runner  # noqa: E402,F401
 from ._c_papr import slm_runner  # noqa: E402,F401
 from ._c_sync import halves_correlation  # noqa: E402,F401
-# Until the C fixed-point kernel is wired in, the integer model serves both backends.
-from ._numpy_fixed import fixed_fft_runner  # noqa: E402,F401
+from ._c_fixed import fixed_fft_runner  # noqa: E402,F401

@@ -100,6 +100,12 @@ def fixed_fft(x: np.ndarray, twiddles: np.ndarray, f: int, shifts, convergent: b
         (empty unless ``trace``).
     """
     b_count, n = x.shape[0], x.shape[1]
+    if b_count == 0:
+        # nothing to transform (the reshapes below cannot infer -1 from 0 values)
+        empty = np.zeros(0, dtype=np.int64)
+        stages = [np.zeros((0, n, 2), dtype=np.int64) for _ in range(n.bit_length() - 1)]
+        return (np.zeros((0, n, 2), dtype=np.int64), empty, empty.copy(),
+                stages if trace else [])
     m = n.bit_length() - 1
     lo, hi = -(1 << f), (1 << f) - 1
     data = x.astype(np.int64)[:, bit_reversal(n), :]
