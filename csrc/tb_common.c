@@ -17,7 +17,8 @@ const char *tb_strerror(int status)
     case TB_ERR_NULL:
         return "a required pointer argument is NULL";
     case TB_ERR_SIZE:
-        return "unsupported transform size (must be 1..1048576 and of the form 2^a 3^b 5^c)";
+        return "unsupported transform size (floating-point FFT: 1..1048576 of the form "
+               "2^a 3^b 5^c; fixed-point FFT: a power of two, 2..65536)";
     case TB_ERR_PRECISION:
         return "unknown precision, or the plan precision does not match the function";
     case TB_ERR_DIRECTION:

@@ -46,7 +46,8 @@ extern "C" {
 /* Status codes returned by every fallible function. */
 #define TB_OK 0
 #define TB_ERR_NULL 1      /* a required pointer argument is NULL */
-#define TB_ERR_SIZE 2      /* size unsupported: 0, > TB_FFT_MAX_SIZE, or not 2^a 3^b 5^c */
+#define TB_ERR_SIZE 2      /* size unsupported (float FFT: 0, > TB_FFT_MAX_SIZE or not 2^a 3^b 5^c;
+                              fixed FFT: not a power of two in 2..TB_FIXED_MAX_SIZE) */
 #define TB_ERR_PRECISION 3 /* unknown precision code, or plan/function precision mismatch */
 #define TB_ERR_DIRECTION 4 /* direction is neither TB_FORWARD nor TB_INVERSE */
 #define TB_ERR_NOMEM 5     /* plan allocation failed */

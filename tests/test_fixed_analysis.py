@@ -195,3 +195,12 @@ def test_exported_chain_checks_clean_and_a_corrupted_port_file_is_located(tmp_pa
     first = result["rx_codes"].first
     assert first.index[:2] == (2, 17) and first.part == "im"
     assert int(first.got) == int(first.expected) + 1
+
+
+def test_quantize_refuses_overflowing_scaled_values_and_bad_scales_by_name():
+    with pytest.raises(ValueError, match="infinity"):
+        quantize([1e308], scale=1e10)
+    with pytest.raises(TypeError, match="scale"):
+        quantize([0.5], scale="big")
+    with pytest.raises(TypeError, match="exponent"):
+        dequantize(np.zeros((4, 2), np.int16), exponent="two")

@@ -69,6 +69,16 @@ def _format(fmt) -> tuple[str, np.dtype, int]:
     return fmt, dtype, bits
 
 
+def _scale(scale) -> float:
+    if isinstance(scale, (bool, np.bool_)) or not isinstance(scale, (int, float, np.integer,
+                                                                     np.floating)):
+        raise TypeError(f"scale must be a real number, got {scale!r}")
+    value = float(scale)
+    if not math.isfinite(value) or value <= 0:
+        raise ValueError(f"scale must be finite and > 0, got {scale!r}")
+    return value
+
+
 def _rounding(rounding) -> str:
     if not isinstance(rounding, str) or rounding not in ROUNDING:
         raise ValueError(f"rounding={rounding!r} is not allowed; use one of {ROUNDING}")
@@ -128,12 +138,11 @@ def quantize(values, fmt: str = "q15", *, scale: float = 1.0, rounding: str = "h
     arr = np.asarray(values)
     if arr.dtype.kind not in "biufc":
         raise TypeError(f"values must be numeric, got dtype {arr.dtype}")
-    scale = float(scale)
-    if not math.isfinite(scale) or scale <= 0:
-        raise ValueError(f"scale must be finite and > 0, got {scale!r}")
-    arr = arr.astype(np.complex128) * scale
+    scale = _scale(scale)
+    with np.errstate(over="ignore", invalid="ignore"):
+        arr = arr.astype(np.complex128) * scale
     if not np.all(np.isfinite(arr)):
-        raise ValueError("values holds NaN or infinity")
+        raise ValueError("values holds NaN or infinity (after scaling)")
     pair = np.stack((arr.real, arr.imag), axis=-1) * float(1 << bits)
     if rounding == "half_up":
         codes = np.floor(pair + 0.5)
@@ -184,10 +193,11 @@ def dequantize(codes, fmt: str = "q15", *, exponent=0, scale: float = 1.0) -> np
         raise TypeError(f"codes must be integers, got dtype {arr.dtype}")
     if arr.ndim < 1 or arr.shape[-1] != 2:
         raise ValueError(f"codes must have a last axis of 2 (re, im), got shape {arr.shape}")
-    scale = float(scale)
-    if not math.isfinite(scale) or scale <= 0:
-        raise ValueError(f"scale must be finite and > 0, got {scale!r}")
-    exp = np.asarray(exponent, dtype=np.float64)
+    scale = _scale(scale)
+    exp = np.asarray(exponent)
+    if exp.dtype.kind not in "iu":
+        raise TypeError(f"exponent must be an integer or an array of integers, got {exponent!r}")
+    exp = exp.astype(np.float64)
     if exp.ndim and arr.ndim >= 3:
         exp = exp[..., None]                        # one per transform: over its samples
     value = (arr[..., 0].astype(np.float64) + 1j * arr[..., 1].astype(np.float64))
