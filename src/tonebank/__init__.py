@@ -33,6 +33,7 @@ from . import (
     sync,
     target_bench,
     theory,
+    vectors,
 )
 from .channel import (
     DcOffset,
@@ -122,5 +123,6 @@ __all__ = [
     "sync",
     "target_bench",
     "theory",
+    "vectors",
     "__version__",
 ]

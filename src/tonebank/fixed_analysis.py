@@ -52,7 +52,7 @@ __all__ = ["ScheduleAdvice", "SqnrResult", "evm_floor_db", "fft_sqnr_db", "predi
 
 
 class SqnrResult(NamedTuple):
-    """Outcome of :func:`fft_sqnr_db`."""
+    """Outcome of :func:`tonebank.fixed_analysis.fft_sqnr_db`."""
 
     #: Signal over quantisation noise of the output, dB.
     sqnr_db: float
@@ -221,7 +221,7 @@ def evm_floor_db(plan, constellation, *, fmt: str = "q15", ifft_schedule="block"
 
 
 class ScheduleAdvice(NamedTuple):
-    """Outcome of :func:`recommend_schedule`."""
+    """Outcome of :func:`tonebank.fixed_analysis.recommend_schedule`."""
 
     #: The recommended ``(ifft_schedule, fft_schedule)``, or None if none meets the target.
     best: tuple | None
@@ -251,8 +251,8 @@ def recommend_schedule(plan, constellation, *, target_evm_db: float, fmt: str = 
         source).
     fmt, rounding, grid_scale
         As for :class:`~tonebank.fixed_ofdm.FixedCpOfdm`.
-    candidates : sequence of (ifft_schedule, fft_schedule), optional
-        Default: each of ``"halve"``, ``"none"``, a split schedule (no
+    candidates : list of tuple, optional
+        ``(ifft_schedule, fft_schedule)`` pairs.  Default: each of ``"halve"``, ``"none"``, a split schedule (no
         shift in the first half of the stages, one bit after) and
         ``"block"`` for the inverse transform, with ``"halve"``, the
         split and ``"block"`` for the forward one.

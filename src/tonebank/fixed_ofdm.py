@@ -45,7 +45,7 @@ class FixedChain(NamedTuple):
     rx_exponent: np.ndarray
     #: The received grid as complex values, ``(S, n_fft)`` (the float equivalent).
     grid: np.ndarray
-    #: Saturated components: grid quantisation, inverse FFT, forward FFT.
+    #: Saturated components in the grid quantisation, the inverse FFT and the forward FFT.
     saturations: tuple
 
 
@@ -58,7 +58,7 @@ class FixedCpOfdm:
         Subcarriers and prefixes (one or several prefix lengths).
     fmt : {"q15", "q31"}, optional
         The format (default ``"q15"``).
-    ifft_schedule, fft_schedule : str or sequence of int, optional
+    ifft_schedule, fft_schedule : str or tuple of int, optional
         Scaling schedules of the two transforms (see
         :mod:`tonebank.fixedpoint`; defaults ``"block"`` and ``"halve"``).
     rounding : {"half_up", "convergent"}, optional

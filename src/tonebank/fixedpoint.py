@@ -1,7 +1,7 @@
 r"""Fixed-point FFTs in Q15 and Q31 with rounding, saturation and scaling schedules.
 
 What a firmware port computes, bit for bit: the C kernel and the numpy
-integer model (:mod:`tonebank._kernel`) return identical integers.
+integer model (``tonebank._kernel``) return identical integers.
 
 Formats.  A value ``v`` in Q15 is the int16 ``round(v * 2**15)``
 (``-1 <= v < 1``); in Q31 the int32 ``round(v * 2**31)``.  Complex arrays
@@ -291,7 +291,7 @@ class FixedFft:
         Size, a power of two from 2 to 65536.
     fmt : {"q15", "q31"}, optional
         The format (default ``"q15"``).
-    schedule : {"halve", "none", "block"} or sequence of int, optional
+    schedule : {"halve", "none", "block"} or tuple of int, optional
         Scaling per stage (see the module notes; default ``"halve"``).
     rounding : {"half_up", "convergent"}, optional
         Rounding of every shift (default ``"half_up"``).
