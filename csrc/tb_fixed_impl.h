@@ -73,6 +73,7 @@ static ACC SFX(stage)(DATA *x, size_t n, size_t h, const ACC *w, size_t step, un
                       int convergent, int track, int64_t *sat)
 {
     ACC peak = 0;
+    int64_t clipped = 0;        /* a local count: stays in a register in the loop */
     size_t g, j;
     for (g = 0; g < n; g += 2 * h) {
         DATA *a = x + 2 * g, *b = x + 2 * (g + h);
@@ -89,10 +90,10 @@ static ACC SFX(stage)(DATA *x, size_t n, size_t h, const ACC *w, size_t step, un
                 y1r = SFX(round_shift)(y1r, s, convergent);
                 y1i = SFX(round_shift)(y1i, s, convergent);
             }
-            a[2 * j] = SFX(saturate)(y0r, sat);
-            a[2 * j + 1] = SFX(saturate)(y0i, sat);
-            b[2 * j] = SFX(saturate)(y1r, sat);
-            b[2 * j + 1] = SFX(saturate)(y1i, sat);
+            a[2 * j] = SFX(saturate)(y0r, &clipped);
+            a[2 * j + 1] = SFX(saturate)(y0i, &clipped);
+            b[2 * j] = SFX(saturate)(y1r, &clipped);
+            b[2 * j + 1] = SFX(saturate)(y1i, &clipped);
             if (track) {
                 /* the next stage's input peak, from the stored values */
                 const ACC m0r = a[2 * j] < 0 ? -(ACC)a[2 * j] : a[2 * j];
@@ -109,6 +110,7 @@ static ACC SFX(stage)(DATA *x, size_t n, size_t h, const ACC *w, size_t step, un
             }
         }
     }
+    *sat += clipped;
     return peak;
 }
 
