@@ -49,6 +49,21 @@ def test_measured_sqnr_meets_the_noise_model():
         16 * 20 * math.log10(2))
 
 
+def test_sqnr_of_samples_of_your_own():
+    # A unit-energy 64-QAM OFDM symbol block scaled to the level a port would see:
+    # the time samples of tonebank.CpOfdm (outside reference for their statistics:
+    # they are the unitary inverse DFT of the grid, numpy.fft in the CpOfdm tests).
+    plan = tonebank.CarrierPlan.centered(256, 192)
+    qam = tonebank.Constellation.qam(64)
+    rng = np.random.default_rng(2)
+    grid = plan.place(qam.map(rng.integers(0, 2, 8 * 192 * 6)))
+    x = 0.25 * tonebank.CpOfdm(plan).synthesize(grid).reshape(8, 256)
+    own = fft_sqnr_db(256, schedule="block", samples=x)
+    assert own.saturations == 0 and own.sqnr_db > 50
+    with pytest.raises(ValueError, match="samples"):
+        fft_sqnr_db(256, samples=x[:, :100])
+
+
 def test_no_scaling_overflows_a_full_scale_input_and_counts_it():
     rng = np.random.default_rng(3)
     codes = np.where(rng.integers(0, 2, (4, 256, 2)) == 1, 32767, -32768).astype(np.int16)

@@ -70,7 +70,8 @@ def _backoff(backoff_db) -> float:
 
 
 def fft_sqnr_db(n: int, *, fmt: str = "q15", schedule="halve", rounding: str = "half_up",
-                backoff_db: float = 12.0, n_transforms: int = 16, rng=0) -> SqnrResult:
+                backoff_db: float = 12.0, n_transforms: int = 16, rng=0,
+                samples=None) -> SqnrResult:
     r"""Measured SQNR of a fixed-point FFT on complex Gaussian input.
 
     Parameters
@@ -86,6 +87,11 @@ def fft_sqnr_db(n: int, *, fmt: str = "q15", schedule="halve", rounding: str = "
         Transforms averaged (default 16).
     rng : numpy.random.Generator or int, optional
         Source of the input (default seed 0).
+    samples : array_like of complex, optional
+        Shape ``(n_transforms, n)``: input of your own statistics (e.g.
+        time samples of your waveform, scaled to the level the port will
+        see, components below 1) instead of the Gaussian one; then
+        ``backoff_db``, ``n_transforms`` and ``rng`` are not used.
 
     Returns
     -------
@@ -109,11 +115,16 @@ def fft_sqnr_db(n: int, *, fmt: str = "q15", schedule="halve", rounding: str = "
     (True, 0)
     """
     fft = FixedFft(n, fmt=fmt, schedule=schedule, rounding=rounding)
-    count = integer(n_transforms, "n_transforms", minimum=1)
-    sigma = 10.0 ** (-_backoff(backoff_db) / 20.0)
-    gen = generator(rng)
-    x = sigma * (gen.standard_normal((count, n)) + 1j * gen.standard_normal((count, n))) \
-        / math.sqrt(2.0)
+    if samples is None:
+        count = integer(n_transforms, "n_transforms", minimum=1)
+        sigma = 10.0 ** (-_backoff(backoff_db) / 20.0)
+        gen = generator(rng)
+        x = sigma * (gen.standard_normal((count, n)) + 1j * gen.standard_normal((count, n))) \
+            / math.sqrt(2.0)
+    else:
+        x = np.asarray(samples)
+        if x.ndim != 2 or x.shape[1] != fft.n or x.shape[0] == 0:
+            raise ValueError(f"samples must have shape (n_transforms, n={fft.n}), got {x.shape}")
     codes, _ = quantize(x, fmt, rounding=rounding)
     out = fft(codes)
     got = (out.values[..., 0] + 1j * out.values[..., 1]) * np.exp2(out.exponent)[:, None]
