@@ -254,3 +254,15 @@ def test_quantize_and_dequantize_reject_bad_arguments():
         dequantize([[1, 2]], "Q15")
     with pytest.raises(ValueError, match="fmt='q8'"):
         quantized_twiddles(8, "q8")
+
+
+@pytest.mark.parametrize("m", range(13, 16))
+def test_c_kernel_equals_integer_model_at_the_sizes_hypothesis_leaves_out(backend, m):
+    # Hypothesis draws n = 2 .. 4096 and one test covers 65536; these are the rest
+    # of the supported sizes, every schedule kind once each.
+    _only_once(backend)
+    rng = np.random.default_rng(m)
+    for fmt, schedule in (("q15", "halve"), ("q31", "block"), ("q15", "none"),
+                          ("q31", tuple(int(s) for s in rng.integers(0, 3, m)))):
+        fft = FixedFft(1 << m, fmt=fmt, schedule=schedule, rounding="convergent")
+        _assert_identical(*_both(fft, _codes(rng, fmt, (1, 1 << m, 2), 1)))
