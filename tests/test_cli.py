@@ -121,3 +121,19 @@ def test_sweep_command_rejects_a_bad_file_and_writes_nothing(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "bad.toml:4: link.n_symbols: must be >= 1" in err
     assert not (tmp_path / "bpsk.jsonl").exists()
+
+
+def test_sweep_command_on_a_dask_scheduler_writes_the_same_file(tmp_path, backend, capsys):
+    # A loopback cluster stands in for machines on a network: the result file
+    # equals the one a local run writes (the batches have their own streams).
+    if backend != "c":
+        pytest.skip("one cluster start is enough; runs under the 'c' parameter")
+    distributed = pytest.importorskip("distributed")
+    cfg = tmp_path / "bpsk.toml"
+    cfg.write_text(BPSK_SWEEP)
+    assert cli.main(["sweep", str(cfg), "--quiet", "--output", str(tmp_path / "local.jsonl")]) == 0
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  host="127.0.0.1", dashboard_address=None) as cluster:
+        assert cli.main(["sweep", str(cfg), "--quiet", "--scheduler", cluster.scheduler_address,
+                         "--output", str(tmp_path / "cluster.jsonl")]) == 0
+    assert (tmp_path / "cluster.jsonl").read_bytes() == (tmp_path / "local.jsonl").read_bytes()

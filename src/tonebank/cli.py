@@ -85,6 +85,18 @@ def _info(args) -> int:
     return 1 if failures else 0
 
 
+def _run_on_cluster(job, address: str, output, workers, progress: bool):
+    """Run a sweep on the dask.distributed scheduler at ``address`` (extra ``dist``)."""
+    try:
+        import distributed
+    except ImportError:
+        raise ImportError("running on a cluster needs dask.distributed: "
+                          "pip install 'tonebank[dist]'") from None
+    with distributed.Client(address, timeout=30) as client:
+        n = workers or max(1, sum(client.nthreads().values()))
+        return job.run(output, executor=client.get_executor(), workers=n, progress=progress)
+
+
 def _sweep(args) -> int:
     from .sweep import Sweep
     from .sweep_config import ConfigError, load_config
@@ -103,9 +115,16 @@ def _sweep(args) -> int:
         job = Sweep.over(cfg.parameter, cfg.values, cfg.build, snr_db=cfg.snr_db, stop=cfg.stop,
                          frames_per_batch=cfg.frames_per_batch, seed=cfg.seed)
     try:
-        result = job.run(output, workers=workers, progress=not args.quiet)
+        if args.scheduler is None:
+            result = job.run(output, workers=workers, progress=not args.quiet)
+        else:
+            result = _run_on_cluster(job, args.scheduler, output, args.workers,
+                                     not args.quiet)
     except ValueError as exc:            # e.g. a result file that belongs to another sweep
         print(f"tonebank sweep: {exc}", file=sys.stderr)
+        return 2
+    except (ImportError, OSError) as exc:   # no dask, or no scheduler at that address
+        print(f"tonebank sweep: --scheduler {args.scheduler}: {exc}", file=sys.stderr)
         return 2
     print(f"{cfg.parameter:>24s}  {'snr_db':>7s}  {'bits':>10s}  {'BER':>9s}  {'SER':>9s}  "
           f"{'FER':>7s}")
@@ -275,6 +294,11 @@ def build_parser() -> argparse.ArgumentParser:
                        help="result file, JSON lines (default: sweep.output of the file)")
     sweep.add_argument("--csv", metavar="FILE", default=None,
                        help="also write the results as CSV")
+    sweep.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                       help="run the batches on the dask.distributed scheduler at ADDRESS "
+                            "(e.g. tcp://10.0.0.5:8786; needs the dist extra); --workers "
+                            "then sets how many batches are in flight (default: the "
+                            "cluster's threads)")
     sweep.add_argument("--quiet", action="store_true", help="no progress line")
     sweep.set_defaults(run=_sweep)
 
