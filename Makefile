@@ -25,7 +25,7 @@ SPHINX := $(BIN)/python -m sphinx -q -W --keep-going -n
 # busy machine spinning BLAS threads make each one thousands of times slower.
 demo: export OPENBLAS_NUM_THREADS = 1
 demo: $(VENV)/.installed-demo
-	$(BIN)/python -m tonebank demo
+	$(BIN)/python -m tonebank demo --out demo-output
 
 # make test: standalone C tests under sanitizers, the Python suite on both
 # backends, and the strict docs build with doctests.  TONEBANK_REQUIRE_C=1
@@ -72,7 +72,7 @@ $(VENV)/.installed-bench: $(BIN)/python $(SOURCES) $(CFLAGS_STAMP)
 	touch $@
 
 clean:
-	rm -rf build docs/_build docs/api/generated src/*.egg-info benchmarks/.results.json .pytest_cache .hypothesis
+	rm -rf build docs/_build docs/api/generated src/*.egg-info benchmarks/.results.json .pytest_cache .hypothesis demo-output
 	$(MAKE) -C csrc clean
 
 distclean: clean
