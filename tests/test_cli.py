@@ -40,6 +40,13 @@ def test_every_command_explains_itself(command, capsys):
     assert len(out.splitlines()) > 5 and "usage: tonebank " + command in out
 
 
+def test_demo_into_a_path_that_is_a_file_fails_cleanly(tmp_path, capsys):
+    blocker = tmp_path / "taken"
+    blocker.write_text("a file, not a folder")
+    assert cli.main(["demo", "--quick", "--out", str(blocker)]) == 2
+    assert "tonebank demo:" in capsys.readouterr().err
+
+
 def test_bad_worker_count_is_an_argparse_error(capsys):
     with pytest.raises(SystemExit) as exc:
         cli.main(["demo", "--workers", "0"])

@@ -67,7 +67,11 @@ def _print_report() -> None:
 def _demo(args) -> int:
     from .demo import run_demo
 
-    run_demo(args.out, quick=args.quick, workers=args.workers)
+    try:
+        run_demo(args.out, quick=args.quick, workers=args.workers)
+    except (OSError, ImportError) as exc:      # an unwritable --out, no matplotlib
+        print(f"tonebank demo: {exc}", file=sys.stderr)
+        return 2
     return 0
 
 
