@@ -91,3 +91,21 @@ def plan_of(target, name: str = "target"):
         return plan, oversampling
     raise TypeError(f"{name} must be a tonebank.CarrierPlan or a waveform with plan and "
                     f"fft_size; got {type(target).__name__}")
+
+
+def real_array(value, name: str) -> np.ndarray:
+    """``value`` as a float64 array of finite reals, or TypeError/ValueError naming ``name``."""
+    arr = np.asarray(value)
+    if arr.dtype.kind not in "biuf":
+        raise TypeError(f"{name} must hold real numbers, got dtype {arr.dtype}")
+    arr = arr.astype(np.float64)
+    if not np.all(np.isfinite(arr)):
+        raise ValueError(f"{name} must be finite everywhere (no NaN or infinity)")
+    return arr
+
+
+def choice(value, name: str, allowed: tuple) -> str:
+    """``value`` if it is one of the strings ``allowed``, else ValueError naming ``name``."""
+    if not isinstance(value, str) or value not in allowed:
+        raise ValueError(f"{name}={value!r} is not allowed; use one of {allowed}")
+    return value

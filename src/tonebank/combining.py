@@ -67,7 +67,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ._checks import generator, integer
+from ._checks import generator, integer, real_array
 
 __all__ = [
     "Combined",
@@ -856,12 +856,7 @@ def imperfect_estimate(channel, error_var, *, power=1.0, model="orthogonal",
         raise ValueError(f"model={model!r} is unknown; allowed: {_ERROR_MODELS}")
     values = {}
     for name, value in (("error_var", error_var), ("power", power)):
-        arr = np.asarray(value)
-        if arr.dtype.kind not in "biuf":
-            raise TypeError(f"{name} must be real; got dtype {arr.dtype}")
-        arr = arr.astype(np.float64)
-        if not np.all(np.isfinite(arr)):
-            raise ValueError(f"{name} must be finite everywhere")
+        arr = real_array(value, name)
         try:
             broadcast = np.broadcast_shapes(arr.shape, h.shape)
         except ValueError:

@@ -53,7 +53,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ._checks import integer
+from ._checks import choice, integer
 from .pilots import PilotPattern, _grid_arg, _signed
 
 __all__ = [
@@ -84,12 +84,6 @@ def _real(value, name: str, *, minimum: float | None = None, positive: bool = Fa
     if minimum is not None and v < minimum:
         raise ValueError(f"{name} must be >= {minimum}, got {value!r}")
     return v
-
-
-def _choice(value, name: str, allowed: tuple) -> str:
-    if not isinstance(value, str) or value not in allowed:
-        raise ValueError(f"{name}={value!r} is not allowed; choose one of {allowed}")
-    return value
 
 
 def _out_dtype(a: np.ndarray) -> np.dtype:
@@ -441,8 +435,8 @@ class ChannelEstimator:
             raise ValueError("pattern has no pilot cells: nothing to estimate from")
         self._pattern = pattern
         plan = pattern.plan
-        self._frequency = _choice(frequency, "frequency", FREQUENCY_METHODS)
-        self._time = _choice(time, "time", TIME_METHODS)
+        self._frequency = choice(frequency, "frequency", FREQUENCY_METHODS)
+        self._time = choice(time, "time", TIME_METHODS)
         needs_snr = self._frequency == "lmmse" or self._time == "wiener"
         if snr_db is None:
             if needs_snr:
@@ -986,7 +980,7 @@ def estimate_from_training(received, training, *, frequency: str | None = None,
     k = _signed(n_fft)[bins]
     order = np.argsort(k)
     if frequency is not None:
-        _choice(frequency, "frequency", ("dft", "lmmse"))
+        choice(frequency, "frequency", ("dft", "lmmse"))
         src = k[order].astype(float)
         if frequency == "dft":
             if n_taps is None:

@@ -38,7 +38,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import papr as _papr
-from ._checks import generator, integer, real
+from ._checks import choice, generator, integer, real
 from .amplifier import AmplifierModel, drive
 from .channel import DelayProfile, TappedDelayLine
 from .channel.noise import ebn0_to_snr_db, esn0_to_bin_snr_db, esn0_to_snr_db
@@ -57,12 +57,6 @@ __all__ = ["Amplifier", "ClipAndFilter", "Clipping", "Fading", "Link", "LinkResu
 ERROR_KEYS = ("bit_errors", "bits", "symbol_errors", "symbols", "frame_errors", "frames")
 
 _SNR_CONVENTIONS = ("esn0", "ebn0")
-
-
-def _choice(value, name: str, allowed: tuple) -> str:
-    if not isinstance(value, str) or value not in allowed:
-        raise ValueError(f"{name}={value!r} is not allowed; use one of {allowed}")
-    return value
 
 
 def _set(obj, **values) -> None:
@@ -236,7 +230,7 @@ class Fading:
              k_factor=None if self.k_factor is None
              else real(self.k_factor, "k_factor", minimum=0.0),
              n_rx=integer(self.n_rx, "n_rx", minimum=1),
-             interpolation=_choice(self.interpolation, "interpolation", ("sinc", "nearest")))
+             interpolation=choice(self.interpolation, "interpolation", ("sinc", "nearest")))
 
     def realise(self, sample_rate: float, rng) -> TappedDelayLine:
         """One realisation (all ``n_rx`` branches) at ``sample_rate``."""
@@ -305,14 +299,14 @@ class Receiver:
     def __post_init__(self):
         if not isinstance(self.exact_llr, (bool, np.bool_)):
             raise TypeError(f"exact_llr must be True or False, got {self.exact_llr!r}")
-        _set(self, estimation=_choice(self.estimation, "estimation", ("pilots", "perfect")),
-             frequency=_choice(self.frequency, "frequency", ("linear", "spline", "dft", "lmmse")),
-             time=_choice(self.time, "time", ("linear", "average", "wiener")),
+        _set(self, estimation=choice(self.estimation, "estimation", ("pilots", "perfect")),
+             frequency=choice(self.frequency, "frequency", ("linear", "spline", "dft", "lmmse")),
+             time=choice(self.time, "time", ("linear", "average", "wiener")),
              n_taps=None if self.n_taps is None else integer(self.n_taps, "n_taps", minimum=1),
-             equalizer=_choice(self.equalizer, "equalizer", ("mmse", "zf")),
-             combining=_choice(self.combining, "combining", ("mrc", "egc", "selection")),
+             equalizer=choice(self.equalizer, "equalizer", ("mmse", "zf")),
+             combining=choice(self.combining, "combining", ("mrc", "egc", "selection")),
              exact_llr=bool(self.exact_llr),
-             slm_recovery=_choice(self.slm_recovery, "slm_recovery", ("side", "blind")))
+             slm_recovery=choice(self.slm_recovery, "slm_recovery", ("side", "blind")))
 
     def describe(self) -> dict:
         """JSON-ready description."""
@@ -555,7 +549,7 @@ class Link:
                                  "sample count; run it through a tonebank.SignalChain and "
                                  "tonebank.sync instead")
         self.impairments = stages
-        self.snr = _choice(snr, "snr", _SNR_CONVENTIONS)
+        self.snr = choice(snr, "snr", _SNR_CONVENTIONS)
 
         if isinstance(waveform, FbmcOqam):
             if receiver.estimation != "perfect":
@@ -744,7 +738,7 @@ class Link:
         wrong = (llr < 0) != bits.astype(bool)
         per_frame = np.count_nonzero(wrong, axis=-1)
         decided = self.constellation.decide(symbols)
-        want = self.constellation.decide(flat_sent)
+        want = self.constellation.bits_to_labels(bits)   # the sent labels, no search
         counts.update({
             "bit_errors": int(per_frame.sum()), "bits": int(bits.size),
             "symbol_errors": int(np.count_nonzero(decided != want)),
@@ -816,16 +810,17 @@ class Link:
         size = getattr(self.waveform, "fft_size", self.plan.n_fft)
         k = np.arange(self.plan.n_fft)
         k[k >= self.plan.n_fft - self.plan.n_fft // 2] -= self.plan.n_fft
-        for f in range(n_frames):
-            tdl = self.channel.realise(fs, gen)
-            # The fractional-delay interpolator delays everything by its
-            # latency; the receiver's timing takes it out (an ideal
-            # synchroniser would), so the prefix only has to cover the paths.
-            lat = tdl.latency_samples
-            padded = np.concatenate((samples[f], np.zeros(lat, samples.dtype)))
-            rx[f] = tdl.filter(padded)[..., lat:lat + n]
-            advance = np.exp(2j * np.pi * k * lat / size)
-            truth[f] = tdl.frequency_response(target, self.n_symbols) * advance
+        tdls = [self.channel.realise(fs, gen) for _ in range(n_frames)]
+        # The fractional-delay interpolator delays everything by its latency (a
+        # property of the profile and rate, the same for every frame); the
+        # receiver's timing takes it out, as an ideal synchroniser would, so the
+        # prefix only has to cover the paths.
+        lat = tdls[0].latency_samples
+        padded = np.pad(samples, ((0, 0), (0, lat)))
+        for f, tdl in enumerate(tdls):
+            rx[f] = tdl.filter(padded[f])[..., lat:lat + n]
+            truth[f] = tdl.frequency_response(target, self.n_symbols)
+        truth *= np.exp(2j * np.pi * k * lat / size)
         return rx, truth
 
     def _front_end(self, rx: np.ndarray, gen: np.random.Generator) -> np.ndarray:

@@ -60,7 +60,7 @@ from typing import NamedTuple
 import numpy as np
 from scipy.special import ndtri
 
-from ._checks import integer
+from ._checks import integer, real_array
 from .constellation import Constellation
 
 __all__ = [
@@ -92,19 +92,9 @@ def _readonly(a: np.ndarray) -> np.ndarray:
     return a
 
 
-def _real_array(value, name: str) -> np.ndarray:
-    arr = np.asarray(value)
-    if arr.dtype.kind not in "biuf":
-        raise TypeError(f"{name} must be real numbers, got dtype {arr.dtype}")
-    arr = arr.astype(np.float64)
-    if not np.all(np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite everywhere")
-    return arr
-
-
 def _gains(gain_to_noise) -> np.ndarray:
     """1-D, non-empty, finite, >= 0 gain-to-noise ratios."""
-    g = _real_array(gain_to_noise, "gain_to_noise")
+    g = real_array(gain_to_noise, "gain_to_noise")
     if g.ndim != 1 or g.size == 0:
         raise ValueError(f"gain_to_noise must be a non-empty 1-D array (one value per tone), "
                          f"got shape {g.shape}")
@@ -190,7 +180,7 @@ def gain_to_noise(channel, noise_var) -> np.ndarray:
         raise TypeError(f"channel must be numeric, got dtype {h.dtype}")
     if not np.all(np.isfinite(h)):
         raise ValueError("channel must be finite everywhere")
-    nv = _real_array(noise_var, "noise_var")
+    nv = real_array(noise_var, "noise_var")
     if np.any(nv <= 0):
         raise ValueError("noise_var must be > 0 everywhere")
     try:
@@ -240,8 +230,8 @@ def capacity(gain_to_noise, energies, *, gap_db: float = 0.0):
     >>> loading.capacity([1.0, 3.0], [1.0, 1.0])   # log2(2) + log2(4)
     3.0
     """
-    g = _real_array(gain_to_noise, "gain_to_noise")
-    e = _real_array(energies, "energies")
+    g = real_array(gain_to_noise, "gain_to_noise")
+    e = real_array(energies, "energies")
     if np.any(g < 0):
         raise ValueError("gain_to_noise must be >= 0 everywhere")
     if np.any(e < 0):
@@ -553,7 +543,7 @@ class BitTable:
         if energies is None:
             e = (b > 0).astype(np.float64)
         else:
-            e = _real_array(energies, "energies")
+            e = real_array(energies, "energies")
             if e.shape != b.shape:
                 raise ValueError(f"energies must have the shape {b.shape} of bits, "
                                  f"got {e.shape}")
@@ -877,7 +867,7 @@ class BitTable:
         """
         y = self._cells_in(cells, "cells")
         lead, n_symbols = y.shape[:-2], y.shape[-2]
-        nv = _real_array(noise_var, "noise_var")
+        nv = real_array(noise_var, "noise_var")
         if np.any(nv <= 0):
             raise ValueError("noise_var must be > 0 everywhere")
         if nv.shape == (self.n_tones,):

@@ -51,7 +51,7 @@ import numpy as np
 import scipy.special
 
 from . import _kernel
-from ._checks import generator, integer
+from ._checks import generator, integer, real_array
 from .constellation import Constellation
 from .metrics import ErrorCount, symbol_errors
 from .plan import CarrierPlan
@@ -108,16 +108,6 @@ def _real(value, name: str) -> float:
     if not math.isfinite(value):
         raise ValueError(f"{name} must be finite, got {value!r}")
     return value
-
-
-def _real_array(value, name: str) -> np.ndarray:
-    arr = np.asarray(value)
-    if arr.dtype.kind not in "biuf":
-        raise TypeError(f"{name} must hold real numbers, got dtype {arr.dtype}")
-    arr = arr.astype(np.float64)
-    if not np.all(np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite, got {value!r}")
-    return arr
 
 
 def _finish(arr: np.ndarray):
@@ -356,10 +346,10 @@ def papr_ccdf(papr_values_db, thresholds_db):
     >>> papr_ccdf([5.0, 7.0, 9.0, 11.0], [6.0, 10.0])
     array([0.75, 0.25])
     """
-    values = _real_array(papr_values_db, "papr_values_db").ravel()
+    values = real_array(papr_values_db, "papr_values_db").ravel()
     if values.size == 0:
         raise ValueError("papr_values_db is empty; the CCDF needs at least one symbol")
-    z = _real_array(thresholds_db, "thresholds_db")
+    z = real_array(thresholds_db, "thresholds_db")
     ordered = np.sort(values)
     above = values.size - np.searchsorted(ordered, z, side="right")
     return _finish(above / values.size)
@@ -433,7 +423,7 @@ def ccdf_theory(thresholds_db, n_subcarriers, *, alpha=1.0, n_candidates=1):
     >>> round(ccdf_theory(10.0, 64, n_candidates=2), 9)
     8.418e-06
     """
-    z0 = _real_array(thresholds_db, "thresholds_db")
+    z0 = real_array(thresholds_db, "thresholds_db")
     n = integer(n_subcarriers, "n_subcarriers", minimum=1)
     u = integer(n_candidates, "n_candidates", minimum=1)
     a = _real(alpha, "alpha")
