@@ -289,6 +289,41 @@ def test_rejects_bad_out():
         tonebank.fft(x, out=ro)
 
 
+@pytest.mark.parametrize("dtype", [np.complex128, np.complex64])
+def test_out_checks_hold_once_the_size_is_prepared(dtype):
+    # After a first call, fft() takes a prepared shortcut for its common case,
+    # also with out=; every out= rule above must still hold on that path.
+    rng = np.random.default_rng(21)
+    x = _signal(rng, (3, 64), dtype)
+    ref = _reference(x)
+    tonebank.fft(x)
+    out = np.empty_like(x)
+    assert tonebank.fft(x, out=out) is out
+    _assert_close(out, ref, dtype)
+    y = x.copy()
+    assert tonebank.fft(y, out=y) is y                     # exact in-place use
+    _assert_close(y, ref, dtype)
+    buf = _signal(rng, 3 * 64 + 1, dtype)
+    src = buf[:192].reshape(3, 64)
+    expect = _reference(src.copy())
+    tonebank.fft(src, out=buf[1:].reshape(3, 64))          # partial overlap
+    _assert_close(buf[1:].reshape(3, 64), expect, dtype)
+    strided = np.empty((3, 128), dtype)[:, ::2]
+    assert tonebank.fft(x, out=strided) is strided
+    _assert_close(strided, ref, dtype)
+    other = np.complex64 if dtype == np.complex128 else np.complex128
+    with pytest.raises(TypeError, match="out has dtype"):
+        tonebank.fft(x, out=np.empty((3, 64), other))
+    with pytest.raises(ValueError, match="out has shape"):
+        tonebank.fft(x, out=np.empty((64, 3), dtype))
+    ro = np.empty_like(x)
+    ro.flags.writeable = False
+    with pytest.raises(ValueError, match="out is read-only"):
+        tonebank.fft(x, out=ro)
+    with pytest.raises(TypeError, match="out must be a numpy.ndarray"):
+        tonebank.fft(x, out=list(range(192)))
+
+
 def test_zero_rows_batch():
     got = tonebank.fft(np.zeros((0, 64), np.complex64))
     assert got.shape == (0, 64) and got.dtype == np.complex64

@@ -122,12 +122,19 @@ def fft(x, axis=-1, *, inverse=False, norm=None, out=None):
     >>> np.allclose(tonebank.fft(X, inverse=True), x)
     True
     """
-    if out is None and axis == -1 and norm is None and type(x) is np.ndarray and x.ndim:
+    if axis == -1 and norm is None and type(x) is np.ndarray and x.ndim:
         # Repeated single-symbol calls: a prepared runner per configuration
         # (see FftPlan) skips the argument normalisation below.
         run = _quick_runners.get((_kernel.active(), x.shape[-1], x.dtype, inverse))
         if run is not None:
-            return run(x)
+            if out is None:
+                return run(x)
+            # A preallocated result of the right kind, distinct from x or
+            # x itself (exact in-place use); anything else takes the full
+            # checks below.
+            if type(out) is np.ndarray and out.dtype == x.dtype and out.shape == x.shape \
+                    and out.flags.writeable and (out is x or not np.may_share_memory(x, out)):
+                return run(x, out)
     if type(x) is not np.ndarray:
         x = np.asarray(x)
     dtype = _COMPLEX_OF.get(x.dtype) or _result_dtype(x.dtype)
@@ -165,14 +172,14 @@ def fft(x, axis=-1, *, inverse=False, norm=None, out=None):
         xv = xv.copy()
     impl = _kernel.active()
     impl.fft(xv, rv, bool(inverse), scale)
-    if out is None and axis == -1 and norm is None and x.dtype is dtype \
+    if axis == -1 and norm is None and x.dtype is dtype \
             and type(inverse) is bool and len(_quick_runners) < _QUICK_RUNNERS_MAX:
         _quick_runners[impl, n, dtype, inverse] = impl.fft_runner(n, dtype, inverse, scale)
     return result
 
 
 #: Prepared runners of :func:`fft`'s common case (last axis, default
-#: scaling, complex input, no ``out``), by (backend, n, dtype, inverse).
+#: scaling, complex input), by (backend, n, dtype, inverse).
 #: Bounded, so that sweeping over many sizes cannot grow it without end.
 _quick_runners: dict = {}
 _QUICK_RUNNERS_MAX = 64

@@ -226,19 +226,21 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
     empty, from_buffer, thread = np.empty, _from_buffer, _thread
 
     def run(x, out=None):
+        # `out`, when given, has x's shape and the result dtype and does
+        # not overlap x unless it is x (the caller checked).
         if out is None:
             out = empty(x.shape, dtype)
-            flags = x.flags          # the input may be read-only (not "carray")
-            if flags.c_contiguous and flags.aligned:
-                batch = x.size // n
-                if batch:
-                    status = rows(call, batch, from_buffer(x), from_buffer(out),
-                                  thread.buf if thread.nbytes >= need else _workspace(need))
-                    if status:
-                        _check(status, "an FFT")
-                return out
-        if out.flags.carray and x.flags.c_contiguous and x.flags.aligned:
-            _execute_contiguous(plan, direction, x, out, scale)
+        elif not out.flags.carray:
+            fft(x, out, inverse, scale)
+            return out
+        flags = x.flags              # the input may be read-only (not "carray")
+        if flags.c_contiguous and flags.aligned:
+            batch = x.size // n
+            if batch:
+                status = rows(call, batch, from_buffer(x), from_buffer(out),
+                              thread.buf if thread.nbytes >= need else _workspace(need))
+                if status:
+                    _check(status, "an FFT")
         else:
             fft(x, out, inverse, scale)
         return out
