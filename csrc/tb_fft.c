@@ -326,6 +326,22 @@ static int tb_factor(size_t n, int *radix)
 static void tb_fill_twiddles(tb_fft_plan *p)
 {
     int ip;
+    if (p->codelet) {
+        /* the 8 x 8 form (double only): for column pair q and k1 = 1..7,
+         * (c0, c0, c1, c1, s0, s0, s1, s1) with c + i s = w64^(j2 k1),
+         * j2 = 2q (c0, s0) and 2q + 1 (c1, s1) */
+        double *t = (double *)p->twiddles + 2 * p->ntwiddle;
+        size_t q, k1, h;
+        for (q = 0; q < 4; q++)
+            for (k1 = 1; k1 < 8; k1++)
+                for (h = 0; h < 2; h++) {
+                    double *e = t + (q * 7 + k1 - 1) * 8 + 2 * h;
+                    tb_twiddle_real c, s;
+                    tb_unit_root((2 * q + h) * k1, 64, &c, &s);
+                    e[0] = e[1] = (double)c;
+                    e[4] = e[5] = (double)-s;
+                }
+    }
     for (ip = 0; ip < p->npass; ip++) {
         const tb_fft_pass *ps = &p->pass[ip];
         const size_t r = (size_t)ps->radix, l = ps->l;
@@ -354,7 +370,7 @@ static void tb_fill_twiddles(tb_fft_plan *p)
 int tb_fft_plan_create(size_t n, int precision, tb_fft_plan **plan_out)
 {
     int radix[TB_MAX_PASSES];
-    int np, ip;
+    int np, ip, codelet;
     size_t l, ntw, head, bytes;
     tb_fft_plan *p;
 
@@ -375,7 +391,11 @@ int tb_fft_plan_create(size_t n, int precision, tb_fft_plan **plan_out)
     }
 
     head = (sizeof(tb_fft_plan) + TB_ALIGN - 1) / TB_ALIGN * TB_ALIGN;
-    bytes = head + 2 * ntw * tb_real_size(precision) + TB_ALIGN;
+    /* n = 64 in double precision also holds the TB_CODELET_REALS twiddles
+     * of its 8 x 8 form (tb_fft_impl.h) after the passes' table */
+    codelet = (n == 64 && precision == TB_FLOAT64);
+    bytes = head + (2 * ntw + (codelet ? TB_CODELET_REALS : 0)) * tb_real_size(precision) +
+            TB_ALIGN;
     p = (tb_fft_plan *)malloc(bytes);
     if (p == NULL)
         return TB_ERR_NOMEM;
@@ -390,7 +410,9 @@ int tb_fft_plan_create(size_t n, int precision, tb_fft_plan **plan_out)
     p->half = n + (TB_MAX_RADIX - 1) * (size_t)p->pad;
     /* Small sizes: batches run 8 rows at once (see "Lanes" in
      * tb_fft_impl.h), which needs 8 n REALs per part of the workspace. */
-    p->lanes = (np >= 2 && n <= TB_LANE_NMAX);
+    p->codelet = codelet;
+    /* ... except where the 8 x 8 form runs rows where they lie */
+    p->lanes = (np >= 2 && n <= TB_LANE_NMAX && !codelet);
     if (p->lanes && p->half < 8 * n)
         p->half = 8 * n;
     p->ntwiddle = ntw;

@@ -205,6 +205,47 @@ static void lanes_to_rows_f64_avx2(size_t n, const double *xr, const double *xi,
 }
 
 /*
+ * Pairs of complex doubles for the 64-point form (SFX(dft64_pairs) in
+ * tb_fft_impl.h): one __m256d holds (re0, im0, re1, im1).  The same
+ * operations as the portable cv_* of the template, lane for lane.
+ */
+typedef __m256d cv_f64_avx2;
+
+static inline __m256d cv_add_f64_avx2(__m256d a, __m256d b) { return _mm256_add_pd(a, b); }
+static inline __m256d cv_sub_f64_avx2(__m256d a, __m256d b) { return _mm256_sub_pd(a, b); }
+static inline __m256d cv_mul_f64_avx2(__m256d a, __m256d b) { return _mm256_mul_pd(a, b); }
+static inline __m256d cv_addsub_f64_avx2(__m256d a, __m256d b)
+{
+    return _mm256_addsub_pd(a, b);
+}
+static inline __m256d cv_swap_f64_avx2(__m256d a) { return _mm256_permute_pd(a, 0x5); }
+static inline __m256d cv_blend_f64_avx2(__m256d a, __m256d b)
+{
+    return _mm256_blend_pd(a, b, 0xA);
+}
+static inline __m256d cv_set1_f64_avx2(double a) { return _mm256_set1_pd(a); }
+static inline __m256d cv_lo_f64_avx2(__m256d a, __m256d b)
+{
+    return _mm256_permute2f128_pd(a, b, 0x20);
+}
+static inline __m256d cv_hi_f64_avx2(__m256d a, __m256d b)
+{
+    return _mm256_permute2f128_pd(a, b, 0x31);
+}
+static inline __m256d cv_load_f64_avx2(const double *p) { return _mm256_loadu_pd(p); }
+static inline void cv_store_f64_avx2(double *p, __m256d a) { _mm256_storeu_pd(p, a); }
+static inline __m256d cv_gather_f64_avx2(const double *xr, const double *xi, ptrdiff_t xs,
+                                         ptrdiff_t e)
+{
+    return _mm256_set_pd(xi[(e + 1) * xs], xr[(e + 1) * xs], xi[e * xs], xr[e * xs]);
+}
+static inline void cv_scatter_f64_avx2(double *out, ptrdiff_t os, ptrdiff_t k, __m256d a)
+{
+    _mm_storeu_pd(out + 2 * k * os, _mm256_castpd256_pd128(a));
+    _mm_storeu_pd(out + 2 * (k + 1) * os, _mm256_extractf128_pd(a, 1));
+}
+
+/*
  * Vector primitives for the AVX2 pass kernels (SFX(vpass4) in
  * tb_fft_impl.h), one set per precision, named like the template's
  * functions (name_f32_avx2, name_f64_avx2) so that the template calls

@@ -956,6 +956,220 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
 }
 
 /*
+ * The 64-point complex128 transform as 8 x 8 on pairs of complex values
+ * (plans with p->codelet set: n = 64, double precision).
+ *
+ * The pass engine runs 64 = 4 * 4 * 4 in three passes and batches it
+ * through the lane engine, whose transposes cost as much as the
+ * butterflies.  This size instead has one straight form that works on a
+ * row where it lies, so a batch is just its rows one after the other and
+ * single rows, batches and the fused operations all perform exactly the
+ * same operations.  One Cooley-Tukey split (x index 8 j1 + j2, y index
+ * k1 + 8 k2, w = exp(-2 pi i / 64)):
+ *
+ *   stage 1, columns j2:  T[j2, k1] = w^(j2 k1) DFT8_j1(x[8 j1 + j2])[k1]
+ *   stage 2, rows k1:     y[k1 + 8 k2] = DFT8_j2(T[j2, k1])[k2]
+ *
+ * Every value is a "pair" (cv): two complex numbers interleaved,
+ * (re0, im0, re1, im1).  Stage 1 takes the columns two at a time (the
+ * pair of elements 8 j1 + j2 and 8 j1 + j2 + 1 is contiguous in the row),
+ * stage 2 the rows k1 two at a time (stage 1 stores T pair-transposed so
+ * that T[j2, k1] and T[j2, k1 + 1] are adjacent), and the outputs
+ * y[k1 + 8 k2], y[k1 + 1 + 8 k2] are again one contiguous pair.  SFX(cv8)
+ * is the DFT8 on pairs: additions, exchanges of real and imaginary parts
+ * (-i), and two products by sqrt(1/2).  The twiddles are one complex
+ * product each (k1 >= 1, every column alike).  T lives in W1.
+ *
+ * The pair operations (SFX(cv_*)) are plain C on four REALs in the
+ * portable copies and one AVX2 register in the AVX2 double copy
+ * (tb_fft_avx2.h); each lane performs the same IEEE operation in both, so
+ * the copies stay bit-identical.  The inverse exchanges real and
+ * imaginary parts on input and output (the DFT of i conj(x) is i conj of
+ * the unnormalised inverse DFT of x: exact).
+ *
+ * Twiddle table, after the passes' table: for column pair p (j2 = 2p,
+ * 2p + 1) and k1 = 1..7, 8 REALs at ((p * 7 + k1 - 1) * 8):
+ *     C = (c0, c0, c1, c1),  S = (s0, s0, s1, s1),  c + i s = w^(j2 k1).
+ */
+#if defined(TB_AVX2_KERNELS) && !TB_AVX2_HALVES
+/* AVX2 double: the cv_*_f64_avx2 operations of tb_fft_avx2.h. */
+#else
+typedef struct {
+    REAL v[4];
+} SFX(cv);
+
+TB_INLINE SFX(cv) SFX(cv_make)(REAL a, REAL b, REAL c, REAL d)
+{
+    SFX(cv) r;
+    r.v[0] = a;
+    r.v[1] = b;
+    r.v[2] = c;
+    r.v[3] = d;
+    return r;
+}
+TB_INLINE SFX(cv) SFX(cv_add)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0] + b.v[0], a.v[1] + b.v[1], a.v[2] + b.v[2], a.v[3] + b.v[3]);
+}
+TB_INLINE SFX(cv) SFX(cv_sub)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0] - b.v[0], a.v[1] - b.v[1], a.v[2] - b.v[2], a.v[3] - b.v[3]);
+}
+TB_INLINE SFX(cv) SFX(cv_mul)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0] * b.v[0], a.v[1] * b.v[1], a.v[2] * b.v[2], a.v[3] * b.v[3]);
+}
+/* (a0 - b0, a1 + b1, a2 - b2, a3 + b3) */
+TB_INLINE SFX(cv) SFX(cv_addsub)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0] - b.v[0], a.v[1] + b.v[1], a.v[2] - b.v[2], a.v[3] + b.v[3]);
+}
+/* real and imaginary parts exchanged */
+TB_INLINE SFX(cv) SFX(cv_swap)(SFX(cv) a)
+{
+    return SFX(cv_make)(a.v[1], a.v[0], a.v[3], a.v[2]);
+}
+/* real parts from a, imaginary parts from b */
+TB_INLINE SFX(cv) SFX(cv_blend)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0], b.v[1], a.v[2], b.v[3]);
+}
+TB_INLINE SFX(cv) SFX(cv_set1)(REAL a)
+{
+    return SFX(cv_make)(a, a, a, a);
+}
+/* first complex of a then first of b; second of a then second of b */
+TB_INLINE SFX(cv) SFX(cv_lo)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[0], a.v[1], b.v[0], b.v[1]);
+}
+TB_INLINE SFX(cv) SFX(cv_hi)(SFX(cv) a, SFX(cv) b)
+{
+    return SFX(cv_make)(a.v[2], a.v[3], b.v[2], b.v[3]);
+}
+TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
+{
+    return SFX(cv_make)(p[0], p[1], p[2], p[3]);
+}
+TB_INLINE void SFX(cv_store)(REAL *p, SFX(cv) a)
+{
+    p[0] = a.v[0];
+    p[1] = a.v[1];
+    p[2] = a.v[2];
+    p[3] = a.v[3];
+}
+/* elements e and e + 1 of a row whose element i is (xr[i xs], xi[i xs]) */
+TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, ptrdiff_t e)
+{
+    return SFX(cv_make)(xr[e * xs], xi[e * xs], xr[(e + 1) * xs], xi[(e + 1) * xs]);
+}
+/* the two complex values to out[2 k os] and out[2 (k + 1) os] */
+TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) a)
+{
+    out[2 * k * os] = a.v[0];
+    out[2 * k * os + 1] = a.v[1];
+    out[2 * (k + 1) * os] = a.v[2];
+    out[2 * (k + 1) * os + 1] = a.v[3];
+}
+#endif
+
+/* In place: v[k] <- forward DFT8 over j of v[j], on pairs. */
+TB_INLINE void SFX(cv8)(SFX(cv) v[8])
+{
+    const SFX(cv) h = SFX(cv_set1)((REAL)0.70710678118654752440084436210484903928L);
+    const SFX(cv) e0 = SFX(cv_add)(v[0], v[4]), e1 = SFX(cv_sub)(v[0], v[4]);
+    const SFX(cv) e2 = SFX(cv_add)(v[2], v[6]), e3 = SFX(cv_sub)(v[2], v[6]);
+    const SFX(cv) o0 = SFX(cv_add)(v[1], v[5]), o1 = SFX(cv_sub)(v[1], v[5]);
+    const SFX(cv) o2 = SFX(cv_add)(v[3], v[7]), o3 = SFX(cv_sub)(v[3], v[7]);
+    const SFX(cv) te = SFX(cv_swap)(e3), to = SFX(cv_swap)(o3);
+    const SFX(cv) ep = SFX(cv_add)(e1, te), em = SFX(cv_sub)(e1, te);
+    const SFX(cv) op = SFX(cv_add)(o1, to), om = SFX(cv_sub)(o1, to);
+    /* DFT4s: E1 = e1 - i e3, E3 = e1 + i e3, likewise O1 and O3 */
+    const SFX(cv) E0 = SFX(cv_add)(e0, e2), E2 = SFX(cv_sub)(e0, e2);
+    const SFX(cv) E1 = SFX(cv_blend)(ep, em), E3 = SFX(cv_blend)(em, ep);
+    const SFX(cv) O0 = SFX(cv_add)(o0, o2), O2 = SFX(cv_sub)(o0, o2);
+    const SFX(cv) O1 = SFX(cv_blend)(op, om), O3 = SFX(cv_blend)(om, op);
+    /* W1 = w8 O1 = h ((r + i) + i (i - r)) for O1 = r + i i */
+    const SFX(cv) t1 = SFX(cv_swap)(O1);
+    const SFX(cv) W1 = SFX(cv_mul)(h, SFX(cv_blend)(SFX(cv_add)(O1, t1), SFX(cv_sub)(O1, t1)));
+    /* w8^3 O3 = (U0, -U1) with U = h ((i - r), (i + r)) for O3 = r + i i */
+    const SFX(cv) t3 = SFX(cv_swap)(O3);
+    const SFX(cv) U = SFX(cv_mul)(h, SFX(cv_blend)(SFX(cv_sub)(t3, O3), SFX(cv_add)(O3, t3)));
+    /* -i O2 */
+    const SFX(cv) t2 = SFX(cv_swap)(O2);
+    const SFX(cv) Ep = SFX(cv_add)(E2, t2), Em = SFX(cv_sub)(E2, t2);
+    const SFX(cv) Up = SFX(cv_add)(E3, U), Um = SFX(cv_sub)(E3, U);
+    v[0] = SFX(cv_add)(E0, O0);
+    v[4] = SFX(cv_sub)(E0, O0);
+    v[1] = SFX(cv_add)(E1, W1);
+    v[5] = SFX(cv_sub)(E1, W1);
+    v[2] = SFX(cv_blend)(Ep, Em);
+    v[6] = SFX(cv_blend)(Em, Ep);
+    v[3] = SFX(cv_blend)(Up, Um);
+    v[7] = SFX(cv_blend)(Um, Up);
+}
+
+/*
+ * The 64-point form on one row: element e at (xr[e xs], xi[e xs]) ->
+ * out[2 k os] (interleaved) times scale; inverse when inv.  t: 128 REALs
+ * (W1).  All of x is read before out is written, so in place works.
+ * `mode` is a constant after inlining: 1 when the input is an interleaved
+ * contiguous row (xs = 2, xi = xr + 1) and out is contiguous (os = 1), so
+ * that pairs are plain loads and stores; 0 otherwise.
+ */
+TB_INLINE void SFX(dft64_pairs)(const REAL *cw, int inv, const REAL *xr, const REAL *xi,
+                                ptrdiff_t xs, REAL *out, ptrdiff_t os, REAL scale,
+                                REAL *TB_RESTRICT t, const int mode)
+{
+    const SFX(cv) sc = SFX(cv_set1)(scale);
+    ptrdiff_t p, q, j, k;
+    for (p = 0; p < 4; p++) { /* columns 2p and 2p + 1 */
+        SFX(cv) v[8];
+        for (j = 0; j < 8; j++) {
+            const SFX(cv) a = mode ? SFX(cv_load)(xr + 2 * (8 * j + 2 * p))
+                                   : SFX(cv_gather)(xr, xi, xs, 8 * j + 2 * p);
+            v[j] = inv ? SFX(cv_swap)(a) : a;
+        }
+        SFX(cv8)(v);
+        for (k = 1; k < 8; k++) {
+            const REAL *w = cw + (p * 7 + k - 1) * 8;
+            v[k] = SFX(cv_addsub)(SFX(cv_mul)(v[k], SFX(cv_load)(w)),
+                                  SFX(cv_mul)(SFX(cv_swap)(v[k]), SFX(cv_load)(w + 4)));
+        }
+        /* pair-transpose: T[2p, k1], T[2p, k1 + 1] and T[2p + 1, k1], ... */
+        for (q = 0; q < 4; q++) {
+            SFX(cv_store)(t + 2 * ((2 * p) * 8 + 2 * q), SFX(cv_lo)(v[2 * q], v[2 * q + 1]));
+            SFX(cv_store)(t + 2 * ((2 * p + 1) * 8 + 2 * q), SFX(cv_hi)(v[2 * q], v[2 * q + 1]));
+        }
+    }
+    for (q = 0; q < 4; q++) { /* rows 2q and 2q + 1 */
+        SFX(cv) v[8];
+        for (j = 0; j < 8; j++)
+            v[j] = SFX(cv_load)(t + 2 * (j * 8 + 2 * q));
+        SFX(cv8)(v);
+        for (k = 0; k < 8; k++) {
+            SFX(cv) a = SFX(cv_mul)(sc, v[k]);
+            if (inv)
+                a = SFX(cv_swap)(a);
+            if (mode)
+                SFX(cv_store)(out + 2 * (2 * q + 8 * k), a);
+            else
+                SFX(cv_scatter)(out, os, 2 * q + 8 * k, a);
+        }
+    }
+}
+
+static void SFX(row_dft64)(const tb_fft_plan *p, int inv, const REAL *xr, const REAL *xi,
+                           ptrdiff_t xs, REAL *out, ptrdiff_t os, REAL scale, REAL *t)
+{
+    const REAL *cw = (const REAL *)p->twiddles + 2 * p->ntwiddle;
+    if (xs == 2 && xi == xr + 1 && os == 1)
+        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 1);
+    else
+        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 0);
+}
+
+/*
  * Run all passes of plan p on one row.
  *
  * x = (xr, xi, xs) is the input (the caller's interleaved buffer, or a
@@ -981,6 +1195,10 @@ static void SFX(run_passes)(const tb_fft_plan *p, int inv, const REAL *xr,
     const REAL *tw = (const REAL *)p->twiddles;
     ptrdiff_t xpad = 0;
     int ip;
+    if (p->codelet) { /* n = 64, double: the 8 x 8 form above, scratch W1 */
+        SFX(row_dft64)(p, inv, xr, xi, xs, out, os, scale, work + 2 * half);
+        return;
+    }
     for (ip = 0; ip < p->npass; ip++) {
         const tb_fft_pass *ps = &p->pass[ip];
         const int last = (ip == p->npass - 1);

@@ -19,6 +19,8 @@
 #define TB_MAX_PASSES 20
 /* Rows transformed together by the lane engine (see tb_fft_impl.h). */
 #define TB_FFT_LANES 8
+/* REALs of the 64-point form's twiddle table (tb_fft_impl.h). */
+#define TB_CODELET_REALS 224
 
 typedef struct {
     int radix;        /* r: 2, 3, 4, 5 or 8 */
@@ -37,6 +39,8 @@ struct tb_fft_plan {
     size_t half;          /* REALs per part of the workspace */
     ptrdiff_t pad;        /* REALs between output slots: TB_PAD or 0 */
     int lanes;            /* 1: batches may run TB_FFT_LANES rows at once */
+    int codelet;          /* 1: n = 64, double: the 8 x 8 form of
+                           * tb_fft_impl.h replaces the passes and lanes */
     size_t ntwiddle;      /* complex entries in the table */
     const void *twiddles; /* float or double, inside this block */
 };
