@@ -239,6 +239,12 @@ static inline __m256d cv_gather_f64_avx2(const double *xr, const double *xi, ptr
 {
     return _mm256_set_pd(xi[(e + 1) * xs], xr[(e + 1) * xs], xi[e * xs], xr[e * xs]);
 }
+static inline __m256d cv_load_split_f64_avx2(const double *xr, const double *xi, ptrdiff_t e)
+{
+    const __m128d re = _mm_loadu_pd(xr + e), im = _mm_loadu_pd(xi + e);
+    return _mm256_insertf128_pd(_mm256_castpd128_pd256(_mm_unpacklo_pd(re, im)),
+                                _mm_unpackhi_pd(re, im), 1);
+}
 static inline void cv_scatter_f64_avx2(double *out, ptrdiff_t os, ptrdiff_t k, __m256d a)
 {
     _mm_storeu_pd(out + 2 * k * os, _mm256_castpd256_pd128(a));

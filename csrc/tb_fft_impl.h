@@ -1063,6 +1063,12 @@ TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, p
 {
     return SFX(cv_make)(xr[e * xs], xi[e * xs], xr[(e + 1) * xs], xi[(e + 1) * xs]);
 }
+/* elements e and e + 1 of a split row (xs = 1): the same values as
+ * SFX(cv_gather); the AVX2 copy loads them as two 128-bit halves */
+TB_INLINE SFX(cv) SFX(cv_load_split)(const REAL *xr, const REAL *xi, ptrdiff_t e)
+{
+    return SFX(cv_make)(xr[e], xi[e], xr[e + 1], xi[e + 1]);
+}
 /* the two complex values to out[2 k os] and out[2 (k + 1) os] */
 TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) a)
 {
@@ -1113,21 +1119,25 @@ TB_INLINE void SFX(cv8)(SFX(cv) v[8])
  * The 64-point form on one row: element e at (xr[e xs], xi[e xs]) ->
  * out[2 k os] (interleaved) times scale; inverse when inv.  t: 128 REALs
  * (W1).  All of x is read before out is written, so in place works.
- * `mode` is a constant after inlining: 1 when the input is an interleaved
- * contiguous row (xs = 2, xi = xr + 1) and out is contiguous (os = 1), so
- * that pairs are plain loads and stores; 0 otherwise.
+ * in_mode and out_mode are constants after inlining, so that pairs are
+ * plain loads and stores where the layout allows: in_mode 1 for an
+ * interleaved contiguous row (xs = 2, xi = xr + 1), 2 for a split one
+ * (xs = 1, as the fused operations prepare in W0), 0 for any other
+ * stride; out_mode 1 for os = 1, 0 otherwise.
  */
 TB_INLINE void SFX(dft64_pairs)(const REAL *cw, int inv, const REAL *xr, const REAL *xi,
                                 ptrdiff_t xs, REAL *out, ptrdiff_t os, REAL scale,
-                                REAL *TB_RESTRICT t, const int mode)
+                                REAL *TB_RESTRICT t, const int in_mode, const int out_mode)
 {
     const SFX(cv) sc = SFX(cv_set1)(scale);
     ptrdiff_t p, q, j, k;
     for (p = 0; p < 4; p++) { /* columns 2p and 2p + 1 */
         SFX(cv) v[8];
         for (j = 0; j < 8; j++) {
-            const SFX(cv) a = mode ? SFX(cv_load)(xr + 2 * (8 * j + 2 * p))
-                                   : SFX(cv_gather)(xr, xi, xs, 8 * j + 2 * p);
+            const ptrdiff_t e = 8 * j + 2 * p;
+            const SFX(cv) a = in_mode == 1   ? SFX(cv_load)(xr + 2 * e)
+                              : in_mode == 2 ? SFX(cv_load_split)(xr, xi, e)
+                                             : SFX(cv_gather)(xr, xi, xs, e);
             v[j] = inv ? SFX(cv_swap)(a) : a;
         }
         SFX(cv8)(v);
@@ -1151,7 +1161,7 @@ TB_INLINE void SFX(dft64_pairs)(const REAL *cw, int inv, const REAL *xr, const R
             SFX(cv) a = SFX(cv_mul)(sc, v[k]);
             if (inv)
                 a = SFX(cv_swap)(a);
-            if (mode)
+            if (out_mode)
                 SFX(cv_store)(out + 2 * (2 * q + 8 * k), a);
             else
                 SFX(cv_scatter)(out, os, 2 * q + 8 * k, a);
@@ -1163,10 +1173,19 @@ static void SFX(row_dft64)(const tb_fft_plan *p, int inv, const REAL *xr, const 
                            ptrdiff_t xs, REAL *out, ptrdiff_t os, REAL scale, REAL *t)
 {
     const REAL *cw = (const REAL *)p->twiddles + 2 * p->ntwiddle;
-    if (xs == 2 && xi == xr + 1 && os == 1)
-        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 1);
-    else
-        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 0);
+    const int in_mode = (xs == 2 && xi == xr + 1) ? 1 : xs == 1 ? 2 : 0;
+    if (os == 1) {
+        if (in_mode == 1)
+            SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 1, 1);
+        else if (in_mode == 2)
+            SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 2, 1);
+        else
+            SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 0, 1);
+    } else if (in_mode == 2) {
+        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 2, 0);
+    } else {
+        SFX(dft64_pairs)(cw, inv, xr, xi, xs, out, os, scale, t, 0, 0);
+    }
 }
 
 /*
