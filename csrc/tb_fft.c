@@ -83,6 +83,15 @@
  *     +--------------------+---------+-----------------------------------+
  *     the twiddles start on a TB_ALIGN-byte boundary.
  *
+ * The 64-point complex128 transform
+ * ---------------------------------
+ * n = 64 in double precision does not run the passes at all: an 8 x 8
+ * form on pairs of complex values (SFX(dft64_pairs) in tb_fft_impl.h,
+ * twiddles after the passes' table, scratch in W1) transforms each row
+ * where it lies, so it needs no lanes and batches are rows one after the
+ * other.  It is the commonest small symbol, and the lanes' transposes
+ * cost as much there as the butterflies.
+ *
  * Batches of small transforms
  * ---------------------------
  * For n <= TB_LANE_NMAX the per-pass set-up costs as much as the
