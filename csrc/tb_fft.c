@@ -168,6 +168,14 @@
 #if TB_DISPATCH_AVX2
 #include <immintrin.h>
 #endif
+/* SSE2 is part of every x86-64 target: the portable copy's 64-point form
+ * uses it for its pairs of complex doubles (see tb_fft_impl.h). */
+#if defined(__SSE2__) && !defined(TB_NO_SSE2)
+#include <emmintrin.h>
+#define TB_PAIRS_SSE2 1
+#else
+#define TB_PAIRS_SSE2 0
+#endif
 
 #ifdef TB_TWIDDLE_DOUBLE
 typedef double tb_twiddle_real;
@@ -224,9 +232,11 @@ static int tb_aligned(const void *p, size_t a)
 
 #define REAL double
 #define SFX(name) name##_f64
+#define TB_REAL_F64 1 /* the template's REAL is double */
 #include "tb_fft_impl.h"
 #undef REAL
 #undef SFX
+#undef TB_REAL_F64
 
 #if TB_DISPATCH_AVX2
 #if defined(__clang__)
@@ -253,10 +263,12 @@ static int tb_aligned(const void *p, size_t a)
 #define REAL double
 #define SFX(name) name##_f64_avx2
 #define TB_AVX2_HALVES 0
+#define TB_REAL_F64 1
 #include "tb_fft_impl.h"
 #undef REAL
 #undef SFX
 #undef TB_AVX2_HALVES
+#undef TB_REAL_F64
 
 #undef TB_AVX2_KERNELS
 

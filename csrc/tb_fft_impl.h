@@ -980,10 +980,11 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
  * (-i), and two products by sqrt(1/2).  The twiddles are one complex
  * product each (k1 >= 1, every column alike).  T lives in W1.
  *
- * The pair operations (SFX(cv_*)) are plain C on four REALs in the
- * portable copies and one AVX2 register in the AVX2 double copy
- * (tb_fft_avx2.h); each lane performs the same IEEE operation in both, so
- * the copies stay bit-identical.  The inverse exchanges real and
+ * The pair operations (SFX(cv_*)) are one AVX2 register in the AVX2
+ * double copy (tb_fft_avx2.h), two SSE2 registers in the portable copy on
+ * x86-64 (SSE2 is part of that target), and plain C on four REALs
+ * elsewhere; each lane performs the same IEEE operation in all three, so
+ * the copies stay bit-identical (test_fft.c compares them).  The inverse exchanges real and
  * imaginary parts on input and output (the DFT of i conj(x) is i conj of
  * the unnormalised inverse DFT of x: exact).
  *
@@ -993,46 +994,116 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
  */
 #if defined(TB_AVX2_KERNELS) && !TB_AVX2_HALVES
 /* AVX2 double: the cv_*_f64_avx2 operations of tb_fft_avx2.h. */
+#elif TB_PAIRS_SSE2 && defined(TB_REAL_F64)
+/* x86-64 without AVX2: one SSE2 register per complex double.  SSE2 has no
+ * addsub, so it is the difference with its odd lane taken from the sum:
+ * the same two IEEE results per lane as the AVX2 instruction. */
+typedef struct {
+    __m128d a, b; /* (r0, i0), (r1, i1) */
+} SFX(cv);
+
+TB_INLINE SFX(cv) SFX(cv_pair)(__m128d a, __m128d b)
+{
+    SFX(cv) r;
+    r.a = a;
+    r.b = b;
+    return r;
+}
+TB_INLINE SFX(cv) SFX(cv_add)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_add_pd(x.a, y.a), _mm_add_pd(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_sub)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_sub_pd(x.a, y.a), _mm_sub_pd(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_mul)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_mul_pd(x.a, y.a), _mm_mul_pd(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_addsub)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_move_sd(_mm_add_pd(x.a, y.a), _mm_sub_pd(x.a, y.a)),
+                        _mm_move_sd(_mm_add_pd(x.b, y.b), _mm_sub_pd(x.b, y.b)));
+}
+TB_INLINE SFX(cv) SFX(cv_swap)(SFX(cv) x)
+{
+    return SFX(cv_pair)(_mm_shuffle_pd(x.a, x.a, 1), _mm_shuffle_pd(x.b, x.b, 1));
+}
+TB_INLINE SFX(cv) SFX(cv_blend)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_move_sd(y.a, x.a), _mm_move_sd(y.b, x.b));
+}
+TB_INLINE SFX(cv) SFX(cv_set1)(REAL v)
+{
+    return SFX(cv_pair)(_mm_set1_pd(v), _mm_set1_pd(v));
+}
+TB_INLINE SFX(cv) SFX(cv_lo)(SFX(cv) x, SFX(cv) y) { return SFX(cv_pair)(x.a, y.a); }
+TB_INLINE SFX(cv) SFX(cv_hi)(SFX(cv) x, SFX(cv) y) { return SFX(cv_pair)(x.b, y.b); }
+TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
+{
+    return SFX(cv_pair)(_mm_loadu_pd(p), _mm_loadu_pd(p + 2));
+}
+TB_INLINE void SFX(cv_store)(REAL *p, SFX(cv) x)
+{
+    _mm_storeu_pd(p, x.a);
+    _mm_storeu_pd(p + 2, x.b);
+}
+TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, ptrdiff_t e)
+{
+    return SFX(cv_pair)(_mm_set_pd(xi[e * xs], xr[e * xs]),
+                        _mm_set_pd(xi[(e + 1) * xs], xr[(e + 1) * xs]));
+}
+TB_INLINE SFX(cv) SFX(cv_load_split)(const REAL *xr, const REAL *xi, ptrdiff_t e)
+{
+    const __m128d re = _mm_loadu_pd(xr + e), im = _mm_loadu_pd(xi + e);
+    return SFX(cv_pair)(_mm_unpacklo_pd(re, im), _mm_unpackhi_pd(re, im));
+}
+TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) x)
+{
+    _mm_storeu_pd(out + 2 * k * os, x.a);
+    _mm_storeu_pd(out + 2 * (k + 1) * os, x.b);
+}
 #else
 typedef struct {
-    REAL v[4];
+    REAL r0, i0, r1, i1; /* named fields: compilers keep them in registers */
 } SFX(cv);
 
 TB_INLINE SFX(cv) SFX(cv_make)(REAL a, REAL b, REAL c, REAL d)
 {
     SFX(cv) r;
-    r.v[0] = a;
-    r.v[1] = b;
-    r.v[2] = c;
-    r.v[3] = d;
+    r.r0 = a;
+    r.i0 = b;
+    r.r1 = c;
+    r.i1 = d;
     return r;
 }
 TB_INLINE SFX(cv) SFX(cv_add)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0] + b.v[0], a.v[1] + b.v[1], a.v[2] + b.v[2], a.v[3] + b.v[3]);
+    return SFX(cv_make)(a.r0 + b.r0, a.i0 + b.i0, a.r1 + b.r1, a.i1 + b.i1);
 }
 TB_INLINE SFX(cv) SFX(cv_sub)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0] - b.v[0], a.v[1] - b.v[1], a.v[2] - b.v[2], a.v[3] - b.v[3]);
+    return SFX(cv_make)(a.r0 - b.r0, a.i0 - b.i0, a.r1 - b.r1, a.i1 - b.i1);
 }
 TB_INLINE SFX(cv) SFX(cv_mul)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0] * b.v[0], a.v[1] * b.v[1], a.v[2] * b.v[2], a.v[3] * b.v[3]);
+    return SFX(cv_make)(a.r0 * b.r0, a.i0 * b.i0, a.r1 * b.r1, a.i1 * b.i1);
 }
-/* (a0 - b0, a1 + b1, a2 - b2, a3 + b3) */
+/* (a.r0 - b.r0, a.i0 + b.i0, a.r1 - b.r1, a.i1 + b.i1) */
 TB_INLINE SFX(cv) SFX(cv_addsub)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0] - b.v[0], a.v[1] + b.v[1], a.v[2] - b.v[2], a.v[3] + b.v[3]);
+    return SFX(cv_make)(a.r0 - b.r0, a.i0 + b.i0, a.r1 - b.r1, a.i1 + b.i1);
 }
 /* real and imaginary parts exchanged */
 TB_INLINE SFX(cv) SFX(cv_swap)(SFX(cv) a)
 {
-    return SFX(cv_make)(a.v[1], a.v[0], a.v[3], a.v[2]);
+    return SFX(cv_make)(a.i0, a.r0, a.i1, a.r1);
 }
 /* real parts from a, imaginary parts from b */
 TB_INLINE SFX(cv) SFX(cv_blend)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0], b.v[1], a.v[2], b.v[3]);
+    return SFX(cv_make)(a.r0, b.i0, a.r1, b.i1);
 }
 TB_INLINE SFX(cv) SFX(cv_set1)(REAL a)
 {
@@ -1041,11 +1112,11 @@ TB_INLINE SFX(cv) SFX(cv_set1)(REAL a)
 /* first complex of a then first of b; second of a then second of b */
 TB_INLINE SFX(cv) SFX(cv_lo)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[0], a.v[1], b.v[0], b.v[1]);
+    return SFX(cv_make)(a.r0, a.i0, b.r0, b.i0);
 }
 TB_INLINE SFX(cv) SFX(cv_hi)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.v[2], a.v[3], b.v[2], b.v[3]);
+    return SFX(cv_make)(a.r1, a.i1, b.r1, b.i1);
 }
 TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
 {
@@ -1053,10 +1124,10 @@ TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
 }
 TB_INLINE void SFX(cv_store)(REAL *p, SFX(cv) a)
 {
-    p[0] = a.v[0];
-    p[1] = a.v[1];
-    p[2] = a.v[2];
-    p[3] = a.v[3];
+    p[0] = a.r0;
+    p[1] = a.i0;
+    p[2] = a.r1;
+    p[3] = a.i1;
 }
 /* elements e and e + 1 of a row whose element i is (xr[i xs], xi[i xs]) */
 TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, ptrdiff_t e)
@@ -1072,10 +1143,10 @@ TB_INLINE SFX(cv) SFX(cv_load_split)(const REAL *xr, const REAL *xi, ptrdiff_t e
 /* the two complex values to out[2 k os] and out[2 (k + 1) os] */
 TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) a)
 {
-    out[2 * k * os] = a.v[0];
-    out[2 * k * os + 1] = a.v[1];
-    out[2 * (k + 1) * os] = a.v[2];
-    out[2 * (k + 1) * os + 1] = a.v[3];
+    out[2 * k * os] = a.r0;
+    out[2 * k * os + 1] = a.i0;
+    out[2 * (k + 1) * os] = a.r1;
+    out[2 * (k + 1) * os + 1] = a.i1;
 }
 #endif
 
