@@ -984,9 +984,9 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
  * double copy (tb_fft_avx2.h), two SSE2 registers in the portable copy on
  * x86-64 (SSE2 is part of that target), and plain C on four REALs
  * elsewhere; each lane performs the same IEEE operation in all three, so
- * the copies stay bit-identical (test_fft.c compares them).  The inverse exchanges real and
- * imaginary parts on input and output (the DFT of i conj(x) is i conj of
- * the unnormalised inverse DFT of x: exact).
+ * the copies stay bit-identical (test_fft.c compares them).  The inverse
+ * exchanges real and imaginary parts on input and output (the DFT of
+ * i conj(x) is i conj of the unnormalised inverse DFT of x: exact).
  *
  * Twiddle table, after the passes' table: for column pair p (j2 = 2p,
  * 2p + 1) and k1 = 1..7, 8 REALs at ((p * 7 + k1 - 1) * 8):
