@@ -324,6 +324,25 @@ def test_out_checks_hold_once_the_size_is_prepared(dtype):
         tonebank.fft(x, out=list(range(192)))
 
 
+@pytest.mark.parametrize("dtype", [np.complex128, np.complex64])
+def test_small_inputs_of_any_layout_once_the_size_is_prepared(dtype):
+    # The prepared shortcut copies small inputs and transforms the copy in
+    # place: the input must stay untouched whatever its layout.
+    rng = np.random.default_rng(22)
+    base = _signal(rng, (4, 32), dtype)
+    tonebank.fft(base[0, :16])                       # prepare n = 16
+    strided = base[0, ::2]                           # 16 values, stride 2
+    readonly = base[1, :16].copy()
+    readonly.flags.writeable = False
+    raw = np.zeros(16 * readonly.itemsize + 1, np.uint8)[1:]
+    misaligned = raw.view(dtype)                     # not aligned to its scalar
+    misaligned[:] = base[2, :16]
+    for x in (strided, readonly, misaligned, base[:, :16].T[:16, :4].T):
+        before = x.copy()
+        _assert_close(tonebank.fft(x), _reference(before), dtype)
+        np.testing.assert_array_equal(x, before)
+
+
 def test_zero_rows_batch():
     got = tonebank.fft(np.zeros((0, 64), np.complex64))
     assert got.shape == (0, 64) and got.dtype == np.complex64
