@@ -64,15 +64,93 @@ struct tb_fbmc_plan {
     tb_fft_plan *fft;
     size_t m, overlap;
     size_t shift;   /* M % 4 == 0: c[k] = exp(2 pi i k shift / M), else 0 */
+    size_t chunk;   /* symbols per chunk of synthesis (tb_fbmc_chunk) */
     const void *hh; /* 2 K M REALs, inside this block */
     const void *c;  /* 2 M REALs, inside this block */
+    const void *hb; /* the taps block by block for synthesis (tb_fbmc_blocks) */
 };
+
+/* Bytes of one block of positions of the synthesis network (a few
+ * AVX registers); see fbmc_network in tb_fbmc_impl.h. */
+#ifndef TB_FBMC_BLOCK_BYTES
+#define TB_FBMC_BLOCK_BYTES ((size_t)128)
+#endif
+
+/* Blocks of TB_FBMC_BLOCK_BYTES in a half period of m REALs of rs bytes
+ * (the last one possibly partial). */
+static size_t tb_fbmc_blocks(size_t m, size_t rs)
+{
+    const size_t b = TB_FBMC_BLOCK_BYTES / rs;
+    return (m + b - 1) / b;
+}
+
+/* Bytes of padding after each half-symbol row of synthesis (one cache
+ * line): see FBMC_ROW in tb_fbmc_impl.h. */
+#define TB_FBMC_PAD ((size_t)64)
+
+/* Bytes the ring of half-symbol rows of one synthesis chunk aims at:
+ * small enough to stay in a core's L2 cache between the split that
+ * writes a row and the network that reads it. */
+#ifndef TB_FBMC_CHUNK_BYTES
+#define TB_FBMC_CHUNK_BYTES ((size_t)256 * 1024)
+#endif
+/* Symbols per chunk: at least TB_FBMC_CHUNK_MIN, so that each block's
+ * taps serve at least 2 * TB_FBMC_CHUNK_MIN output half periods per load
+ * even when a few rows already fill the budget (large M: measured, the
+ * taps re-read per symbol cost more than the larger ring); at most
+ * TB_FBMC_CHUNK_MAX, beyond which longer chunks gain nothing (and the
+ * workspace of a small plan stays small). */
+#define TB_FBMC_CHUNK_MIN 4
+#define TB_FBMC_CHUNK_MAX 32
+
+/* Symbols per synthesis chunk for m subcarriers, overlap K, REALs of rs
+ * bytes: as many as keep the ring (2 rows per symbol plus the 2K - 1
+ * rows still needed from before the chunk) within TB_FBMC_CHUNK_BYTES,
+ * clamped to [TB_FBMC_CHUNK_MIN, TB_FBMC_CHUNK_MAX]. */
+static size_t tb_fbmc_chunk(size_t m, size_t overlap, size_t rs)
+{
+    const size_t row = 2 * m * rs + TB_FBMC_PAD, rows = TB_FBMC_CHUNK_BYTES / row;
+    const size_t chunk = rows > 2 * overlap - 1 ? (rows - (2 * overlap - 1)) / 2 : 0;
+    if (chunk < TB_FBMC_CHUNK_MIN)
+        return TB_FBMC_CHUNK_MIN;
+    return chunk < TB_FBMC_CHUNK_MAX ? chunk : TB_FBMC_CHUNK_MAX;
+}
+
+/* Rows in the synthesis ring: a chunk's 2 * chunk half-symbols and the
+ * 2K - 1 before them that its first output half periods still read. */
+static size_t tb_fbmc_slots(const tb_fbmc_plan *plan)
+{
+    return 2 * plan->chunk + 2 * plan->overlap - 1;
+}
 
 /* Bytes of the struct, rounded up so the tables after it are aligned. */
 static size_t tb_fbmc_head(void)
 {
     const size_t a = 2 * sizeof(double);
     return (sizeof(struct tb_fbmc_plan) + a - 1) / a * a;
+}
+
+/* The synthesis network's copy of the taps, block by block: for block b
+ * of a half period (TB_FBMC_BLOCK_BYTES of REALs, B of them) the 2K
+ * half periods' taps one after the other, hb[(b 2K + i) B + t] =
+ * hh[i m + b B + t] (zero past the end of a partial last block), so that
+ * a block's taps are one short contiguous table instead of 2K strips m
+ * REALs apart (which would share L1 sets with the output). */
+static void tb_fbmc_fill_blocks(void *hb, const void *hh, size_t m, size_t overlap,
+                                int precision)
+{
+    const size_t rs = tb_real_size(precision), b = TB_FBMC_BLOCK_BYTES / rs;
+    const size_t n2 = 2 * overlap, nb = tb_fbmc_blocks(m, rs);
+    size_t k, i, t;
+    for (k = 0; k < nb; k++)
+        for (i = 0; i < n2; i++)
+            for (t = 0; t < b; t++) {
+                const size_t pos = k * b + t, dst = (k * n2 + i) * b + t;
+                if (precision == TB_FLOAT32)
+                    ((float *)hb)[dst] = pos < m ? ((const float *)hh)[i * m + pos] : 0.0f;
+                else
+                    ((double *)hb)[dst] = pos < m ? ((const double *)hh)[i * m + pos] : 0.0;
+            }
 }
 
 int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *prototype,
@@ -96,7 +174,8 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
         return TB_ERR_ARG;
     rs = tb_real_size(precision);
     taps = overlap * m;
-    base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs);
+    base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs +
+                                   tb_fbmc_blocks(m, rs) * 2 * overlap * TB_FBMC_BLOCK_BYTES);
     if (base == NULL)
         return TB_ERR_NOMEM;
     p = (tb_fbmc_plan *)(void *)base;
@@ -111,8 +190,10 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
      * with shift = M/4 or 3M/4: a circular shift in time, applied while
      * the data are moved anyway instead of as a multiplication pass. */
     p->shift = m % 4 != 0 ? 0 : (overlap % 2 == 0 ? m / 4 : 3 * m / 4);
+    p->chunk = tb_fbmc_chunk(m, overlap, rs);
     p->hh = base + tb_fbmc_head();
     p->c = base + tb_fbmc_head() + 2 * taps * rs;
+    p->hb = base + tb_fbmc_head() + (2 * taps + 2 * m) * rs;
     for (l = 0; l < taps; l++) {
         if (precision == TB_FLOAT32) {
             float *hh = (float *)(void *)(base + tb_fbmc_head());
@@ -137,6 +218,8 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
             c[2 * k + 1] = (double)ci;
         }
     }
+    tb_fbmc_fill_blocks(base + tb_fbmc_head() + (2 * taps + 2 * m) * rs, p->hh, m, overlap,
+                        precision);
     *plan_out = p;
     return TB_OK;
 }
@@ -151,10 +234,12 @@ void tb_fbmc_plan_destroy(tb_fbmc_plan *plan)
 
 size_t tb_fbmc_workspace_size(const tb_fbmc_plan *plan)
 {
+    size_t rs;
     if (plan == NULL)
         return 0;
-    return tb_fft_workspace_size(plan->fft) +
-           3 * 2 * plan->m * tb_real_size(plan->fft->precision);
+    rs = tb_real_size(plan->fft->precision);
+    return tb_fft_workspace_size(plan->fft) + 2 * plan->m * rs +
+           tb_fbmc_slots(plan) * (2 * plan->m * rs + TB_FBMC_PAD);
 }
 
 size_t tb_fbmc_tail(const tb_fbmc_plan *plan)
