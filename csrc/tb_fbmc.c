@@ -72,9 +72,7 @@ struct tb_fbmc_plan {
 
 /* Bytes of one block of positions of the synthesis network (a few
  * AVX registers); see fbmc_network in tb_fbmc_impl.h. */
-#ifndef TB_FBMC_BLOCK_BYTES
 #define TB_FBMC_BLOCK_BYTES ((size_t)128)
-#endif
 
 /* Blocks of TB_FBMC_BLOCK_BYTES in a half period of m REALs of rs bytes
  * (the last one possibly partial). */
@@ -91,9 +89,7 @@ static size_t tb_fbmc_blocks(size_t m, size_t rs)
 /* Bytes the ring of half-symbol rows of one synthesis chunk aims at:
  * small enough to stay in a core's L2 cache between the split that
  * writes a row and the network that reads it. */
-#ifndef TB_FBMC_CHUNK_BYTES
 #define TB_FBMC_CHUNK_BYTES ((size_t)256 * 1024)
-#endif
 /* Symbols per chunk: at least TB_FBMC_CHUNK_MIN, so that each block's
  * taps serve at least 2 * TB_FBMC_CHUNK_MIN output half periods per load
  * even when a few rows already fill the budget (large M: measured, the

@@ -41,11 +41,10 @@ static void SFX(fbmc_set)(REAL *restrict d, const REAL *restrict h, const REAL *
  * blocks at one position do not all fall into one L1 set when 2m REALs
  * is a multiple of 4 KiB (see TB_FBMC_PAD in tb_fbmc.c). */
 #define FBMC_ROW(m) (2 * (m) + TB_FBMC_PAD / sizeof(REAL))
-/* Output half periods per run of the register kernels, and the most rows
- * a run reads (2K - 1 + FBMC_RUN; larger K take fbmc_gather_slow). */
-#ifndef FBMC_RUN
+/* Output half periods per run of the block kernels (their outputs stay in
+ * L1 from one tap group to the next), and the most rows a run reads
+ * (2K - 1 + FBMC_RUN: K up to 24; larger K take fbmc_gather_slow). */
 #define FBMC_RUN 16
-#endif
 #define FBMC_TABLE 64
 
 /* Taps i0 .. i0 + 3 (i0 even) of one block of len <= FBMC_BLOCK REALs, for
@@ -109,29 +108,57 @@ static void SFX(fbmc_net2)(REAL *restrict d, const REAL *const *row, size_t off,
     }
 }
 
+/* d[j] (=, +=) h1[j] * a[j] + h2[j] * b[j], j < n: two taps per pass of
+ * the slow path below. */
+static void SFX(fbmc_set2)(REAL *restrict d, const REAL *restrict h1,
+                           const REAL *restrict a, const REAL *restrict h2,
+                           const REAL *restrict b, size_t n)
+{
+    size_t j;
+    for (j = 0; j < n; j++)
+        d[j] = h1[j] * a[j] + h2[j] * b[j];
+}
+
+static void SFX(fbmc_axpy2)(REAL *restrict d, const REAL *restrict h1,
+                            const REAL *restrict a, const REAL *restrict h2,
+                            const REAL *restrict b, size_t n)
+{
+    size_t j;
+    for (j = 0; j < n; j++)
+        d[j] += h1[j] * a[j] + h2[j] * b[j];
+}
+
 /* One output half period j the slow way, for the REALs off .. off + len:
- * its taps ilo .. ihi one pass each (the first 2K - 1 and last 2K - 1 half
- * periods of a burst, which fewer than 2K half-symbols reach; the last
- * len < FBMC_VEC REALs of every half period when m is not a multiple of
- * FBMC_VEC; every half period when 2K - 1 + FBMC_RUN > FBMC_TABLE). */
+ * its taps ilo .. ihi, two per pass (the first 2K - 1 and last 2K - 1 half
+ * periods of a burst, which fewer than 2K half-symbols reach; every half
+ * period when 2K - 1 + FBMC_RUN > FBMC_TABLE). */
 static void SFX(fbmc_gather_slow)(REAL *d, const REAL *ring, size_t slots, const REAL *hh,
                                   size_t m, size_t j, size_t ilo, size_t ihi, size_t off,
                                   size_t len)
 {
     size_t i;
-    for (i = ilo; i <= ihi; i++) {
+    for (i = ilo; i <= ihi; i += 2) {
         const REAL *x = ring + (j - i) % slots * FBMC_ROW(m) + (i & 1) * m + off;
-        if (i == ilo)
-            SFX(fbmc_set)(d + off, hh + i * m + off, x, len);
-        else
-            SFX(fbmc_axpy)(d + off, hh + i * m + off, x, len);
+        const REAL *h = hh + i * m + off;
+        if (i == ihi) { /* an odd number of taps: the last one alone */
+            if (i == ilo)
+                SFX(fbmc_set)(d + off, h, x, len);
+            else
+                SFX(fbmc_axpy)(d + off, h, x, len);
+        } else {
+            const REAL *y = ring + (j - i - 1) % slots * FBMC_ROW(m) + ((i + 1) & 1) * m + off;
+            if (i == ilo)
+                SFX(fbmc_set2)(d + off, h, x, h + m, y, len);
+            else
+                SFX(fbmc_axpy2)(d + off, h, x, h + m, y, len);
+        }
     }
 }
 
 /* Output half periods j0 <= j < j1 of a burst of n_half = 2S half-symbols
  * into o, from the rows j0 - 2K + 1 .. min(j1, n_half) - 1 in the ring.
  * The half periods every tap reaches go in runs of FBMC_RUN through the
- * register kernels, block by block and tap group after tap group (the
+ * block kernels, block by block and tap group after tap group (the
  * first group stores, the others add while the run's block is still in
  * L1); the rest through fbmc_gather_slow. */
 static void SFX(fbmc_network)(REAL *o, const REAL *ring, size_t slots, const REAL *hh,
