@@ -17,15 +17,44 @@
  *     first half-symbol  (Re q):  x0 = (z + w) / 2
  *     second half-symbol (Im q):  j x1 = (z - w) / 2   (j^n folded in)
  *
- * and the sign (-1)^s of j^(2s) too.  The polyphase network is then an
- * overlap-add of the periodically extended x0, x1 times h, straight into
- * the caller's output, while the symbol is hot in the cache:
+ * and the sign (-1)^s of j^(2s) too (the 1/2 and the sign are the IFFT's
+ * scale, exact).  The polyphase network then adds the periodically
+ * extended half-symbols times h:
  *
  *   grid row s --*c--> W0 --IFFT--> Z --mirror--> A = x0, B = j x1 (signs in)
  *
  *   out:  |<------------- K M ------------->|
  *         [sM ...... A*h (K periods of A) ..]
  *               [sM+M/2 .. B*h (K periods of B) ..]
+ *
+ * but gathered rather than scattered: cut the output into half periods
+ * of M/2 samples; half period j is the sum of 2K contributions, tap
+ * i = 0 .. 2K-1 from half-symbol n = j - i (rows x_n = A or B):
+ *
+ *     out_j[r] = sum_i h[i M/2 + r] x_{j-i}[(i mod 2) M/2 + r],  r < M/2.
+ *
+ * Symbols go in chunks of `chunk` (tb_fbmc_chunk: 4 to 32, about 256 KiB
+ * of rows).  Each symbol of a chunk is transformed and split into its two
+ * rows in a ring of 2 chunk + 2K - 1 rows in the workspace (row n in slot
+ * n mod slots); then every output half period the chunk completes is
+ * computed once and stored once, the tail's with the last chunk:
+ *
+ *   ring:  | rows 2 s0 - 2K + 1 .. 2 s0 - 1 (kept) | rows 2 s0 .. 2 s1 - 1 (new) |
+ *          (as slots, wrapping)
+ *   out:   half periods 2 s0 .. 2 s1 - 1  (last chunk: .. 2 S + 2K - 2)
+ *
+ * The half periods all 2K taps reach go a block of positions at a time
+ * (TB_FBMC_BLOCK_BYTES), over runs of up to 16 half periods: the block's
+ * taps (a contiguous table hb in the plan) and each row's block are read
+ * from L1 for the whole run, and each output is stored once, K = 4 in one
+ * pass of all 8 taps, other K in groups of 4 (and 2).  The first and last
+ * 2K - 1 half periods of a burst, which fewer half-symbols reach, take
+ * the taps two per pass over the whole half period.  So per sample the
+ * network costs 2K multiply-adds from L1 and one store, instead of K
+ * read-modify-write passes over the output (the overlap-add it replaces,
+ * 5 loads and a store per 2 multiply-adds).  Rows are 2M REALs plus a
+ * cache line apart (TB_FBMC_PAD): at power-of-two M the blocks of
+ * consecutive rows would otherwise fall into one L1 set.
  *
  * Analysis runs the other way: each half-symbol's K*M samples are folded
  * with h into M (v[p] = sum_i h[p+iM] y[p+iM], the polyphase network),
@@ -44,15 +73,23 @@
  * FFT's scale carry the sign: no multiplication passes over the bins.
  *
  * Plan memory: one allocation (plus the FFT plan it owns)
- *     +---------------------+---------------------------+-----------------+
- *     | struct tb_fbmc_plan | hh: 2 K M REALs           | c: 2 M REALs    |
- *     +---------------------+---------------------------+-----------------+
+ *     +---------------------+------------------+---------------+--------------------+
+ *     | struct tb_fbmc_plan | hh: 2 K M REALs  | c: 2 M REALs  | hb: 2 K M REALs,   |
+ *     |                     |                  |               | in whole blocks    |
+ *     +---------------------+------------------+---------------+--------------------+
  * hh holds each tap twice (hh[2l] = hh[2l+1] = h[l]) so that the filter
  * loops run over interleaved complex data as plain REAL loops that
- * compilers vectorise; c holds the bin phases interleaved (re, im).
+ * compilers vectorise; c holds the bin phases interleaved (re, im); hb
+ * holds hh again block by block for the synthesis network (for each block
+ * of positions its 2K half periods' taps one after the other, the last
+ * block padded with zeros: tb_fbmc_fill_blocks).
  *
- * Workspace (tb_fbmc_workspace_size): the FFT's workspace (W0, W1) then
- * three rows of M interleaved complex values: Z, A, B.
+ * Workspace (tb_fbmc_workspace_size): the FFT's workspace (W0, W1), the
+ * row Z (M interleaved complex values), then the synthesis ring:
+ * 2 chunk + 2K - 1 rows of M complex values plus TB_FBMC_PAD bytes each
+ * (analysis uses its first two rows as A and B).  E.g. K = 4, complex128:
+ * about 270 KiB for M = 256 and 1024, 1.1 MiB for M = 4096 (4 symbols
+ * per chunk; half that in complex64).
  */
 #include <stdlib.h>
 #include <string.h>
