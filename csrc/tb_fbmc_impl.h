@@ -101,7 +101,8 @@ static void SFX(fbmc_net2)(REAL *restrict d, const REAL *const *row, size_t off,
 {
     size_t jj, t;
     for (jj = 0; jj < nj; jj++) {
-        const REAL *restrict xa = row[jj] + off, *restrict xb = row[jj - 1] + m + off;
+        const REAL *const *r = row + jj; /* r[-i]: row of tap i */
+        const REAL *restrict xa = r[0] + off, *restrict xb = r[-1] + m + off;
         REAL *restrict dj = d + jj * m;
         for (t = 0; t < len; t++)
             dj[t] = h[t] * xa[t] + h[FBMC_BLOCK + t] * xb[t];
