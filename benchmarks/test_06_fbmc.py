@@ -7,8 +7,9 @@ Transmit (``kind="fbmc_tx"``), implementations (``extra_info["impl"]``):
 
 ``fbmc_c``       ``FbmcOqam(plan, overlap=4).synthesize(grid)`` on the C
                  backend: per symbol one inverse FFT for both OQAM
-                 half-symbols, the polyphase network added straight into
-                 the output (``csrc/tb_fbmc.c``);
+                 half-symbols, the polyphase network gathered per output
+                 half period from a chunk of half-symbol rows
+                 (``csrc/tb_fbmc.c``);
 ``fbmc_numpy``   the same call on the numpy backend (the fallback);
 ``ofdm_c``       ``CpOfdm(plan).synthesize(grid)`` on the C backend, the SAME
                  plan (same carriers, no prefix): the brief's "CP-OFDM of

@@ -17,15 +17,44 @@
  *     first half-symbol  (Re q):  x0 = (z + w) / 2
  *     second half-symbol (Im q):  j x1 = (z - w) / 2   (j^n folded in)
  *
- * and the sign (-1)^s of j^(2s) too.  The polyphase network is then an
- * overlap-add of the periodically extended x0, x1 times h, straight into
- * the caller's output, while the symbol is hot in the cache:
+ * and the sign (-1)^s of j^(2s) too (the 1/2 and the sign are the IFFT's
+ * scale, exact).  The polyphase network then adds the periodically
+ * extended half-symbols times h:
  *
  *   grid row s --*c--> W0 --IFFT--> Z --mirror--> A = x0, B = j x1 (signs in)
  *
  *   out:  |<------------- K M ------------->|
  *         [sM ...... A*h (K periods of A) ..]
  *               [sM+M/2 .. B*h (K periods of B) ..]
+ *
+ * but gathered rather than scattered: cut the output into half periods
+ * of M/2 samples; half period j is the sum of 2K contributions, tap
+ * i = 0 .. 2K-1 from half-symbol n = j - i (rows x_n = A or B):
+ *
+ *     out_j[r] = sum_i h[i M/2 + r] x_{j-i}[(i mod 2) M/2 + r],  r < M/2.
+ *
+ * Symbols go in chunks of `chunk` (tb_fbmc_chunk: 4 to 32, about 256 KiB
+ * of rows).  Each symbol of a chunk is transformed and split into its two
+ * rows in a ring of 2 chunk + 2K - 1 rows in the workspace (row n in slot
+ * n mod slots); then every output half period the chunk completes is
+ * computed once and stored once, the tail's with the last chunk:
+ *
+ *   ring:  | rows 2 s0 - 2K + 1 .. 2 s0 - 1 (kept) | rows 2 s0 .. 2 s1 - 1 (new) |
+ *          (as slots, wrapping)
+ *   out:   half periods 2 s0 .. 2 s1 - 1  (last chunk: .. 2 S + 2K - 2)
+ *
+ * The half periods all 2K taps reach go a block of positions at a time
+ * (TB_FBMC_BLOCK_BYTES), over runs of up to 16 half periods: the block's
+ * taps (a contiguous table hb in the plan) and each row's block are read
+ * from L1 for the whole run, and each output is stored once, K = 4 in one
+ * pass of all 8 taps, other K in groups of 4 (and 2).  The first and last
+ * 2K - 1 half periods of a burst, which fewer half-symbols reach, take
+ * the taps two per pass over the whole half period.  So per sample the
+ * network costs 2K multiply-adds from L1 and one store, instead of K
+ * read-modify-write passes over the output (the overlap-add it replaces,
+ * 5 loads and a store per 2 multiply-adds).  Rows are 2M REALs plus a
+ * cache line apart (TB_FBMC_PAD): at power-of-two M the blocks of
+ * consecutive rows would otherwise fall into one L1 set.
  *
  * Analysis runs the other way: each half-symbol's K*M samples are folded
  * with h into M (v[p] = sum_i h[p+iM] y[p+iM], the polyphase network),
@@ -44,15 +73,23 @@
  * FFT's scale carry the sign: no multiplication passes over the bins.
  *
  * Plan memory: one allocation (plus the FFT plan it owns)
- *     +---------------------+---------------------------+-----------------+
- *     | struct tb_fbmc_plan | hh: 2 K M REALs           | c: 2 M REALs    |
- *     +---------------------+---------------------------+-----------------+
+ *     +---------------------+------------------+---------------+--------------------+
+ *     | struct tb_fbmc_plan | hh: 2 K M REALs  | c: 2 M REALs  | hb: 2 K M REALs,   |
+ *     |                     |                  |               | in whole blocks    |
+ *     +---------------------+------------------+---------------+--------------------+
  * hh holds each tap twice (hh[2l] = hh[2l+1] = h[l]) so that the filter
  * loops run over interleaved complex data as plain REAL loops that
- * compilers vectorise; c holds the bin phases interleaved (re, im).
+ * compilers vectorise; c holds the bin phases interleaved (re, im); hb
+ * holds hh again block by block for the synthesis network (for each block
+ * of positions its 2K half periods' taps one after the other, the last
+ * block padded with zeros: tb_fbmc_fill_blocks).
  *
- * Workspace (tb_fbmc_workspace_size): the FFT's workspace (W0, W1) then
- * three rows of M interleaved complex values: Z, A, B.
+ * Workspace (tb_fbmc_workspace_size): the FFT's workspace (W0, W1), the
+ * row Z (M interleaved complex values), then the synthesis ring:
+ * 2 chunk + 2K - 1 rows of M complex values plus TB_FBMC_PAD bytes each
+ * (analysis uses its first two rows as A and B).  E.g. K = 4, complex128:
+ * about 270 KiB for M = 256 and 1024, 1.1 MiB for M = 4096 (4 symbols
+ * per chunk; half that in complex64).
  */
 #include <stdlib.h>
 #include <string.h>
@@ -64,15 +101,89 @@ struct tb_fbmc_plan {
     tb_fft_plan *fft;
     size_t m, overlap;
     size_t shift;   /* M % 4 == 0: c[k] = exp(2 pi i k shift / M), else 0 */
+    size_t chunk;   /* symbols per chunk of synthesis (tb_fbmc_chunk) */
     const void *hh; /* 2 K M REALs, inside this block */
     const void *c;  /* 2 M REALs, inside this block */
+    const void *hb; /* the taps block by block for synthesis (tb_fbmc_blocks) */
 };
+
+/* Bytes of one block of positions of the synthesis network (a few
+ * AVX registers); see fbmc_network in tb_fbmc_impl.h. */
+#define TB_FBMC_BLOCK_BYTES ((size_t)128)
+
+/* Blocks of TB_FBMC_BLOCK_BYTES in a half period of m REALs of rs bytes
+ * (the last one possibly partial). */
+static size_t tb_fbmc_blocks(size_t m, size_t rs)
+{
+    const size_t b = TB_FBMC_BLOCK_BYTES / rs;
+    return (m + b - 1) / b;
+}
+
+/* Bytes of padding after each half-symbol row of synthesis (one cache
+ * line): see FBMC_ROW in tb_fbmc_impl.h. */
+#define TB_FBMC_PAD ((size_t)64)
+
+/* Bytes the ring of half-symbol rows of one synthesis chunk aims at:
+ * small enough to stay in a core's L2 cache between the split that
+ * writes a row and the network that reads it. */
+#define TB_FBMC_CHUNK_BYTES ((size_t)256 * 1024)
+/* Symbols per chunk: at least TB_FBMC_CHUNK_MIN, so that each block's
+ * taps serve at least 2 * TB_FBMC_CHUNK_MIN output half periods per load
+ * even when a few rows already fill the budget (large M: measured, the
+ * taps re-read per symbol cost more than the larger ring); at most
+ * TB_FBMC_CHUNK_MAX, beyond which longer chunks gain nothing (and the
+ * workspace of a small plan stays small). */
+#define TB_FBMC_CHUNK_MIN 4
+#define TB_FBMC_CHUNK_MAX 32
+
+/* Symbols per synthesis chunk for m subcarriers, overlap K, REALs of rs
+ * bytes: as many as keep the ring (2 rows per symbol plus the 2K - 1
+ * rows still needed from before the chunk) within TB_FBMC_CHUNK_BYTES,
+ * clamped to [TB_FBMC_CHUNK_MIN, TB_FBMC_CHUNK_MAX]. */
+static size_t tb_fbmc_chunk(size_t m, size_t overlap, size_t rs)
+{
+    const size_t row = 2 * m * rs + TB_FBMC_PAD, rows = TB_FBMC_CHUNK_BYTES / row;
+    const size_t chunk = rows > 2 * overlap - 1 ? (rows - (2 * overlap - 1)) / 2 : 0;
+    if (chunk < TB_FBMC_CHUNK_MIN)
+        return TB_FBMC_CHUNK_MIN;
+    return chunk < TB_FBMC_CHUNK_MAX ? chunk : TB_FBMC_CHUNK_MAX;
+}
+
+/* Rows in the synthesis ring: a chunk's 2 * chunk half-symbols and the
+ * 2K - 1 before them that its first output half periods still read. */
+static size_t tb_fbmc_slots(const tb_fbmc_plan *plan)
+{
+    return 2 * plan->chunk + 2 * plan->overlap - 1;
+}
 
 /* Bytes of the struct, rounded up so the tables after it are aligned. */
 static size_t tb_fbmc_head(void)
 {
     const size_t a = 2 * sizeof(double);
     return (sizeof(struct tb_fbmc_plan) + a - 1) / a * a;
+}
+
+/* The synthesis network's copy of the taps, block by block: for block b
+ * of a half period (TB_FBMC_BLOCK_BYTES of REALs, B of them) the 2K
+ * half periods' taps one after the other, hb[(b 2K + i) B + t] =
+ * hh[i m + b B + t] (zero past the end of a partial last block), so that
+ * a block's taps are one short contiguous table instead of 2K strips m
+ * REALs apart (which would share L1 sets with the output). */
+static void tb_fbmc_fill_blocks(void *hb, const void *hh, size_t m, size_t overlap,
+                                int precision)
+{
+    const size_t rs = tb_real_size(precision), b = TB_FBMC_BLOCK_BYTES / rs;
+    const size_t n2 = 2 * overlap, nb = tb_fbmc_blocks(m, rs);
+    size_t k, i, t;
+    for (k = 0; k < nb; k++)
+        for (i = 0; i < n2; i++)
+            for (t = 0; t < b; t++) {
+                const size_t pos = k * b + t, dst = (k * n2 + i) * b + t;
+                if (precision == TB_FLOAT32)
+                    ((float *)hb)[dst] = pos < m ? ((const float *)hh)[i * m + pos] : 0.0f;
+                else
+                    ((double *)hb)[dst] = pos < m ? ((const double *)hh)[i * m + pos] : 0.0;
+            }
 }
 
 int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *prototype,
@@ -96,7 +207,8 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
         return TB_ERR_ARG;
     rs = tb_real_size(precision);
     taps = overlap * m;
-    base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs);
+    base = (unsigned char *)malloc(tb_fbmc_head() + (2 * taps + 2 * m) * rs +
+                                   tb_fbmc_blocks(m, rs) * 2 * overlap * TB_FBMC_BLOCK_BYTES);
     if (base == NULL)
         return TB_ERR_NOMEM;
     p = (tb_fbmc_plan *)(void *)base;
@@ -111,8 +223,10 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
      * with shift = M/4 or 3M/4: a circular shift in time, applied while
      * the data are moved anyway instead of as a multiplication pass. */
     p->shift = m % 4 != 0 ? 0 : (overlap % 2 == 0 ? m / 4 : 3 * m / 4);
+    p->chunk = tb_fbmc_chunk(m, overlap, rs);
     p->hh = base + tb_fbmc_head();
     p->c = base + tb_fbmc_head() + 2 * taps * rs;
+    p->hb = base + tb_fbmc_head() + (2 * taps + 2 * m) * rs;
     for (l = 0; l < taps; l++) {
         if (precision == TB_FLOAT32) {
             float *hh = (float *)(void *)(base + tb_fbmc_head());
@@ -137,6 +251,8 @@ int tb_fbmc_plan_create(size_t m, size_t overlap, int precision, const double *p
             c[2 * k + 1] = (double)ci;
         }
     }
+    tb_fbmc_fill_blocks(base + tb_fbmc_head() + (2 * taps + 2 * m) * rs, p->hh, m, overlap,
+                        precision);
     *plan_out = p;
     return TB_OK;
 }
@@ -151,10 +267,12 @@ void tb_fbmc_plan_destroy(tb_fbmc_plan *plan)
 
 size_t tb_fbmc_workspace_size(const tb_fbmc_plan *plan)
 {
+    size_t rs;
     if (plan == NULL)
         return 0;
-    return tb_fft_workspace_size(plan->fft) +
-           3 * 2 * plan->m * tb_real_size(plan->fft->precision);
+    rs = tb_real_size(plan->fft->precision);
+    return tb_fft_workspace_size(plan->fft) + 2 * plan->m * rs +
+           tb_fbmc_slots(plan) * (2 * plan->m * rs + TB_FBMC_PAD);
 }
 
 size_t tb_fbmc_tail(const tb_fbmc_plan *plan)

@@ -42,7 +42,9 @@ static void check(int ok, const char *what, size_t m, size_t k, int prec)
     }
 }
 
-/* PHYDYAS taps, unit energy (from the formula, in long double). */
+/* PHYDYAS taps, unit energy (from the formula, in long double), for
+ * K <= 4; for larger K a sine window (the kernel does not depend on the
+ * prototype's design: any real taps would do). */
 static void prototype(size_t m, size_t kk, double *h)
 {
     static const long double c3[3] = {1.0L, 0.91143783L, 0.41143783L};
@@ -53,9 +55,12 @@ static void prototype(size_t m, size_t kk, double *h)
     size_t l, k;
     for (l = 0; l < kk * m; l++) {
         long double v = c[0];
-        for (k = 1; k < kk; k++)
-            v += 2 * ((k & 1) ? -1 : 1) * c[k] * cosl(2 * pi * (long double)(k * l) /
-                                                     (long double)(kk * m));
+        if (kk > 4)
+            v = sinl(pi * ((long double)l + 0.5L) / (long double)(kk * m));
+        else
+            for (k = 1; k < kk; k++)
+                v += 2 * ((k & 1) ? -1 : 1) * c[k] * cosl(2 * pi * (long double)(k * l) /
+                                                         (long double)(kk * m));
         t[l] = v;
         energy += v * v;
     }
@@ -293,6 +298,86 @@ static void check_errors(void)
     tb_fbmc_plan_destroy(p);
 }
 
+/* Synthesis is linear and each symbol's pulses depend only on its index
+ * (the signal model in tonebank.h), so a burst of ns symbols equals the
+ * sum of the ns one-symbol bursts of its symbols, symbol s sent alone
+ * with start_symbol = start + s and placed s*m samples in.  One-symbol
+ * bursts never reach the kernel's chunked path (every output half period
+ * of them lacks some tap), so this checks the chunking -- bursts shorter
+ * and longer than a chunk, chunk boundaries, batch rows, both start
+ * parities -- at sizes where the term-by-term model of check_config would
+ * be slow.  Tolerance: check_config's, doubled (two computations). */
+static void check_superposition(size_t m, size_t kk, int prec, size_t batch, size_t ns,
+                                size_t start)
+{
+    const size_t rs = prec == TB_FLOAT32 ? sizeof(float) : sizeof(double);
+    const size_t taps = kk * m, tail = taps - m / 2, len = ns * m + tail, one = m + tail;
+    const double eps = prec == TB_FLOAT32 ? FLT_EPSILON : DBL_EPSILON;
+    double *h = (double *)xmalloc(taps * sizeof(double)), hmax = 0, rowmax = 0, tol, err = 0;
+    long double *sum = (long double *)xmalloc(2 * len * sizeof(long double));
+    void *grid = xmalloc(2 * batch * ns * m * rs), *out = xmalloc(2 * batch * len * rs);
+    void *part = xmalloc(2 * one * rs), *work;
+    tb_fbmc_plan *plan = NULL;
+    size_t q, s, l, i;
+    int st = TB_OK;
+
+    prototype(m, kk, h);
+    for (l = 0; l < taps; l++)
+        hmax = fabs(h[l]) > hmax ? fabs(h[l]) : hmax;
+    for (i = 0; i < 2 * batch * ns * m; i++)
+        put(prec, grid, i, rnd());
+    for (q = 0; q < batch * ns; q++) {
+        double norm = 0;
+        for (i = 0; i < 2 * m; i++)
+            norm += get(prec, grid, 2 * q * m + i) * get(prec, grid, 2 * q * m + i);
+        rowmax = sqrt(norm) > rowmax ? sqrt(norm) : rowmax;
+    }
+    tol = 8 * eps * (log2((double)m) + 4.0 * (double)kk) * rowmax * 2.0 * (double)kk * hmax;
+    if (tb_fbmc_plan_create(m, kk, prec, h, &plan) != TB_OK) {
+        check(0, "plan for the superposition check", m, kk, prec);
+        return;
+    }
+    work = xmalloc(tb_fbmc_workspace_size(plan));
+    if (prec == TB_FLOAT32)
+        st |= tb_fbmc_synthesize_f32(plan, batch, ns, start, (const float *)grid,
+                                     (ptrdiff_t)(ns * m), (float *)out, (ptrdiff_t)len, work);
+    else
+        st |= tb_fbmc_synthesize_f64(plan, batch, ns, start, (const double *)grid,
+                                     (ptrdiff_t)(ns * m), (double *)out, (ptrdiff_t)len, work);
+    for (q = 0; q < batch; q++) {
+        memset(sum, 0, 2 * len * sizeof(long double));
+        for (s = 0; s < ns; s++) {
+            const size_t row = 2 * (q * ns + s) * m;
+            if (prec == TB_FLOAT32)
+                st |= tb_fbmc_synthesize_f32(plan, 1, 1, start + s, (const float *)grid + row,
+                                             0, (float *)part, 0, work);
+            else
+                st |= tb_fbmc_synthesize_f64(plan, 1, 1, start + s,
+                                             (const double *)grid + row, 0, (double *)part, 0,
+                                             work);
+            for (i = 0; i < 2 * one; i++)
+                sum[2 * s * m + i] += get(prec, part, i);
+        }
+        for (l = 0; l < len; l++) {
+            const double dr = get(prec, out, 2 * (q * len + l)) - (double)sum[2 * l];
+            const double di = get(prec, out, 2 * (q * len + l) + 1) - (double)sum[2 * l + 1];
+            const double e = sqrt(dr * dr + di * di);
+            err = e > err ? e : err;
+        }
+    }
+    check(st == TB_OK, "synthesize status (superposition)", m, kk, prec);
+    if (err > tol)
+        printf("  ns=%zu batch=%zu start=%zu: error %.3g > %.3g\n", ns, batch, start, err, tol);
+    check(err <= tol, "a burst is the sum of its one-symbol bursts", m, kk, prec);
+    tb_fbmc_plan_destroy(plan);
+    free(h);
+    free(sum);
+    free(grid);
+    free(out);
+    free(part);
+    free(work);
+}
+
 int main(void)
 {
     static const size_t sizes[] = {8, 12, 16, 64, 256};
@@ -304,6 +389,28 @@ int main(void)
                 check_config(sizes[i], k, prec, 2, sizes[i] > 64 ? 3 : 5, k == 3 ? 1 : 0);
                 check_config(sizes[i], k, prec, 1, 1, 2);
             }
+    /* The chunked synthesis (tb_fbmc.c: 4 to 32 symbols per chunk, about
+     * 256 KiB of rows): against the model across chunk boundaries at small
+     * m (32 symbols per chunk) and for K = 5, 6 (tap groups) and 25 (more
+     * taps than the kernels' row table: the slow path throughout) ... */
+    for (prec = TB_FLOAT32; prec <= TB_FLOAT64; prec++) {
+        check_config(16, 4, prec, 1, 70, 1);
+        check_config(12, 3, prec, 2, 33, 0);
+        check_config(16, 5, prec, 2, 9, 1);
+        check_config(16, 6, prec, 1, 9, 0);
+        check_config(8, 25, prec, 1, 3, 1);
+    }
+    /* ... and by superposition where the model is slow: 1024 subcarriers
+     * (chunks of 4 symbols in float64, 12 in float32) and 4096 (4). */
+    for (prec = TB_FLOAT32; prec <= TB_FLOAT64; prec++) {
+        static const size_t counts[] = {1, 3, 4, 5, 9, 12, 13, 25};
+        for (i = 0; i < sizeof(counts) / sizeof(counts[0]); i++)
+            check_superposition(1024, 4, prec, 2, counts[i], i & 1);
+        for (k = 1; k <= 5; k++)
+            check_superposition(1024, k, prec, 1, 9, k & 1);
+        check_superposition(4096, 4, prec, 1, 9, 1);
+        check_superposition(64, 4, prec, 2, 65, 0);
+    }
     check_errors();
     printf("%ld passed, %ld failed\n", n_passed, n_failed);
     return n_failed > 0;
