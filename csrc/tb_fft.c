@@ -83,14 +83,14 @@
  *     +--------------------+---------+-----------------------------------+
  *     the twiddles start on a TB_ALIGN-byte boundary.
  *
- * The 64-point complex128 transform
- * ---------------------------------
- * n = 64 in double precision does not run the passes at all: an 8 x 8
- * form on pairs of complex values (SFX(dft64_pairs) in tb_fft_impl.h,
- * twiddles after the passes' table, scratch in W1) transforms each row
- * where it lies, so it needs no lanes and batches are rows one after the
- * other.  It is the commonest small symbol, and the lanes' transposes
- * cost as much there as the butterflies.
+ * The 64-point transform
+ * ----------------------
+ * n = 64 does not run the passes at all: an 8 x 8 form on groups of
+ * complex values (SFX(dft64_pairs) in tb_fft_impl.h, twiddles after the
+ * passes' table, scratch in W1) transforms each row where it lies, so it
+ * needs no lanes and batches are rows one after the other.  It is the
+ * commonest small symbol, and the lanes' transposes cost as much there
+ * as the butterflies.
  *
  * Batches of small transforms
  * ---------------------------
@@ -348,19 +348,27 @@ static void tb_fill_twiddles(tb_fft_plan *p)
 {
     int ip;
     if (p->codelet) {
-        /* the 8 x 8 form (double only): for column pair q and k1 = 1..7,
-         * (c0, c0, c1, c1, s0, s0, s1, s1) with c + i s = w64^(j2 k1),
-         * j2 = 2q (c0, s0) and 2q + 1 (c1, s1) */
-        double *t = (double *)p->twiddles + 2 * p->ntwiddle;
-        size_t q, k1, h;
-        for (q = 0; q < 4; q++)
+        /* the 8 x 8 form: for column group g (W = 2 columns j2 = 2g, 2g + 1
+         * in double, W = 4 columns j2 = 4g .. 4g + 3 in float) and k1 =
+         * 1..7, 4 W REALs: the cosines of w64^(j2 k1) twice each, then the
+         * sines (see tb_fft_impl.h) */
+        const size_t W = p->precision == TB_FLOAT32 ? 4 : 2;
+        size_t g, k1, c;
+        for (g = 0; g < 8 / W; g++)
             for (k1 = 1; k1 < 8; k1++)
-                for (h = 0; h < 2; h++) {
-                    double *e = t + (q * 7 + k1 - 1) * 8 + 2 * h;
-                    tb_twiddle_real c, s;
-                    tb_unit_root((2 * q + h) * k1, 64, &c, &s);
-                    e[0] = e[1] = (double)c;
-                    e[4] = e[5] = (double)-s;
+                for (c = 0; c < W; c++) {
+                    const size_t e = 2 * p->ntwiddle + (g * 7 + k1 - 1) * 4 * W + 2 * c;
+                    tb_twiddle_real cs, sn;
+                    tb_unit_root((W * g + c) * k1, 64, &cs, &sn);
+                    if (p->precision == TB_FLOAT32) {
+                        float *t = (float *)p->twiddles;
+                        t[e] = t[e + 1] = (float)cs;
+                        t[e + 2 * W] = t[e + 2 * W + 1] = (float)-sn;
+                    } else {
+                        double *t = (double *)p->twiddles;
+                        t[e] = t[e + 1] = (double)cs;
+                        t[e + 2 * W] = t[e + 2 * W + 1] = (double)-sn;
+                    }
                 }
     }
     for (ip = 0; ip < p->npass; ip++) {
@@ -412,9 +420,9 @@ int tb_fft_plan_create(size_t n, int precision, tb_fft_plan **plan_out)
     }
 
     head = (sizeof(tb_fft_plan) + TB_ALIGN - 1) / TB_ALIGN * TB_ALIGN;
-    /* n = 64 in double precision also holds the TB_CODELET_REALS twiddles
-     * of its 8 x 8 form (tb_fft_impl.h) after the passes' table */
-    codelet = (n == 64 && precision == TB_FLOAT64);
+    /* n = 64 also holds the TB_CODELET_REALS twiddles of its 8 x 8 form
+     * (tb_fft_impl.h) after the passes' table */
+    codelet = (n == 64);
     bytes = head + (2 * ntw + (codelet ? TB_CODELET_REALS : 0)) * tb_real_size(precision) +
             TB_ALIGN;
     p = (tb_fft_plan *)malloc(bytes);

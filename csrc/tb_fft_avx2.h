@@ -224,13 +224,12 @@ static inline __m256d cv_blend_f64_avx2(__m256d a, __m256d b)
     return _mm256_blend_pd(a, b, 0xA);
 }
 static inline __m256d cv_set1_f64_avx2(double a) { return _mm256_set1_pd(a); }
-static inline __m256d cv_lo_f64_avx2(__m256d a, __m256d b)
+/* In place: complex c of u[r] <-> complex r of u[c], r, c < 2 */
+static inline void cv_transpose_f64_avx2(__m256d *u)
 {
-    return _mm256_permute2f128_pd(a, b, 0x20);
-}
-static inline __m256d cv_hi_f64_avx2(__m256d a, __m256d b)
-{
-    return _mm256_permute2f128_pd(a, b, 0x31);
+    const __m256d a = u[0], b = u[1];
+    u[0] = _mm256_permute2f128_pd(a, b, 0x20);
+    u[1] = _mm256_permute2f128_pd(a, b, 0x31);
 }
 static inline __m256d cv_load_f64_avx2(const double *p) { return _mm256_loadu_pd(p); }
 static inline void cv_store_f64_avx2(double *p, __m256d a) { _mm256_storeu_pd(p, a); }
@@ -249,6 +248,60 @@ static inline void cv_scatter_f64_avx2(double *out, ptrdiff_t os, ptrdiff_t k, _
 {
     _mm_storeu_pd(out + 2 * k * os, _mm256_castpd256_pd128(a));
     _mm_storeu_pd(out + 2 * (k + 1) * os, _mm256_extractf128_pd(a, 1));
+}
+
+/*
+ * Quads of complex floats for the same 64-point form in single precision:
+ * one __m256 holds (re0, im0, ..., re3, im3); the block transpose is a
+ * 4 x 4 transpose of 64-bit complex values.
+ */
+typedef __m256 cv_f32_avx2;
+
+static inline __m256 cv_add_f32_avx2(__m256 a, __m256 b) { return _mm256_add_ps(a, b); }
+static inline __m256 cv_sub_f32_avx2(__m256 a, __m256 b) { return _mm256_sub_ps(a, b); }
+static inline __m256 cv_mul_f32_avx2(__m256 a, __m256 b) { return _mm256_mul_ps(a, b); }
+static inline __m256 cv_addsub_f32_avx2(__m256 a, __m256 b) { return _mm256_addsub_ps(a, b); }
+static inline __m256 cv_swap_f32_avx2(__m256 a) { return _mm256_permute_ps(a, 0xB1); }
+static inline __m256 cv_blend_f32_avx2(__m256 a, __m256 b)
+{
+    return _mm256_blend_ps(a, b, 0xAA);
+}
+static inline __m256 cv_set1_f32_avx2(float a) { return _mm256_set1_ps(a); }
+static inline __m256 cv_load_f32_avx2(const float *p) { return _mm256_loadu_ps(p); }
+static inline void cv_store_f32_avx2(float *p, __m256 a) { _mm256_storeu_ps(p, a); }
+static inline __m256 cv_gather_f32_avx2(const float *xr, const float *xi, ptrdiff_t xs,
+                                        ptrdiff_t e)
+{
+    return _mm256_set_ps(xi[(e + 3) * xs], xr[(e + 3) * xs], xi[(e + 2) * xs],
+                         xr[(e + 2) * xs], xi[(e + 1) * xs], xr[(e + 1) * xs], xi[e * xs],
+                         xr[e * xs]);
+}
+static inline __m256 cv_load_split_f32_avx2(const float *xr, const float *xi, ptrdiff_t e)
+{
+    const __m128 re = _mm_loadu_ps(xr + e), im = _mm_loadu_ps(xi + e);
+    return _mm256_insertf128_ps(_mm256_castps128_ps256(_mm_unpacklo_ps(re, im)),
+                                _mm_unpackhi_ps(re, im), 1);
+}
+static inline void cv_scatter_f32_avx2(float *out, ptrdiff_t os, ptrdiff_t k, __m256 a)
+{
+    const __m128 lo = _mm256_castps256_ps128(a), hi = _mm256_extractf128_ps(a, 1);
+    _mm_storel_pi((__m64 *)(void *)(out + 2 * k * os), lo);
+    _mm_storeh_pi((__m64 *)(void *)(out + 2 * (k + 1) * os), lo);
+    _mm_storel_pi((__m64 *)(void *)(out + 2 * (k + 2) * os), hi);
+    _mm_storeh_pi((__m64 *)(void *)(out + 2 * (k + 3) * os), hi);
+}
+/* In place: complex c of u[r] <-> complex r of u[c], r, c < 4 (each
+ * complex float is one 64-bit lane of the double view) */
+static inline void cv_transpose_f32_avx2(__m256 *u)
+{
+    const __m256d u0 = _mm256_castps_pd(u[0]), u1 = _mm256_castps_pd(u[1]);
+    const __m256d u2 = _mm256_castps_pd(u[2]), u3 = _mm256_castps_pd(u[3]);
+    const __m256d t0 = _mm256_unpacklo_pd(u0, u1), t1 = _mm256_unpackhi_pd(u0, u1);
+    const __m256d t2 = _mm256_unpacklo_pd(u2, u3), t3 = _mm256_unpackhi_pd(u2, u3);
+    u[0] = _mm256_castpd_ps(_mm256_permute2f128_pd(t0, t2, 0x20));
+    u[1] = _mm256_castpd_ps(_mm256_permute2f128_pd(t1, t3, 0x20));
+    u[2] = _mm256_castpd_ps(_mm256_permute2f128_pd(t0, t2, 0x31));
+    u[3] = _mm256_castpd_ps(_mm256_permute2f128_pd(t1, t3, 0x31));
 }
 
 /*

@@ -956,8 +956,8 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
 }
 
 /*
- * The 64-point complex128 transform as 8 x 8 on pairs of complex values
- * (plans with p->codelet set: n = 64, double precision).
+ * The 64-point transform as 8 x 8 on groups of complex values (plans with
+ * p->codelet set: n = 64, both precisions).
  *
  * The pass engine runs 64 = 4 * 4 * 4 in three passes and batches it
  * through the lane engine, whose transposes cost as much as the
@@ -970,30 +970,37 @@ static void SFX(lanes)(const tb_fft_plan *p, int inv, size_t count, const REAL *
  *   stage 1, columns j2:  T[j2, k1] = w^(j2 k1) DFT8_j1(x[8 j1 + j2])[k1]
  *   stage 2, rows k1:     y[k1 + 8 k2] = DFT8_j2(T[j2, k1])[k2]
  *
- * Every value is a "pair" (cv): two complex numbers interleaved,
- * (re0, im0, re1, im1).  Stage 1 takes the columns two at a time (the
- * pair of elements 8 j1 + j2 and 8 j1 + j2 + 1 is contiguous in the row),
- * stage 2 the rows k1 two at a time (stage 1 stores T pair-transposed so
- * that T[j2, k1] and T[j2, k1 + 1] are adjacent), and the outputs
- * y[k1 + 8 k2], y[k1 + 1 + 8 k2] are again one contiguous pair.  SFX(cv8)
- * is the DFT8 on pairs: additions, exchanges of real and imaginary parts
- * (-i), and two products by sqrt(1/2).  The twiddles are one complex
- * product each (k1 >= 1, every column alike).  T lives in W1.
+ * Every value (a cv) is W = TB_CVW complex numbers interleaved, one
+ * 256-bit register: W = 2 doubles (re0, im0, re1, im1) or W = 4 floats.
+ * Stage 1 takes the columns W at a time (elements 8 j1 + j2 .. j2 + W - 1
+ * are contiguous in the row), stage 2 the rows k1 W at a time (stage 1
+ * stores T block-transposed, W x W complex values, so that T[j2, k1 ..
+ * k1 + W - 1] are adjacent), and the outputs y[k1 + 8 k2 .. + W - 1] are
+ * again contiguous.  SFX(cv8) is the DFT8 on cvs: additions, exchanges of
+ * real and imaginary parts (-i), and two products by sqrt(1/2).  The
+ * twiddles are one complex product each (k1 >= 1, every column alike).
+ * T lives in W1.
  *
- * The pair operations (SFX(cv_*)) are one AVX2 register in the AVX2
- * double copy (tb_fft_avx2.h), two SSE2 registers in the portable copy on
- * x86-64 (SSE2 is part of that target), and plain C on four REALs
- * elsewhere; each lane performs the same IEEE operation in all three, so
- * the copies stay bit-identical (test_fft.c compares them).  The inverse
- * exchanges real and imaginary parts on input and output (the DFT of
- * i conj(x) is i conj of the unnormalised inverse DFT of x: exact).
+ * The cv operations (SFX(cv_*)) are one AVX2 register in the AVX2 copies
+ * (tb_fft_avx2.h), two SSE registers in the portable copy on x86-64 (SSE2
+ * is part of that target), and plain C on 2 W REALs elsewhere; each lane
+ * performs the same IEEE operation in all three, so the copies stay
+ * bit-identical (test_fft.c compares them).  The inverse exchanges real
+ * and imaginary parts on input and output (the DFT of i conj(x) is
+ * i conj of the unnormalised inverse DFT of x: exact).
  *
- * Twiddle table, after the passes' table: for column pair p (j2 = 2p,
- * 2p + 1) and k1 = 1..7, 8 REALs at ((p * 7 + k1 - 1) * 8):
- *     C = (c0, c0, c1, c1),  S = (s0, s0, s1, s1),  c + i s = w^(j2 k1).
+ * Twiddle table, after the passes' table: for column group g (j2 = W g +
+ * c, c < W) and k1 = 1..7, 4 W REALs at ((g * 7 + k1 - 1) * 4 W): the
+ * real parts of w^(j2 k1), each twice, then the imaginary parts, each
+ * twice (so that the product is two multiplications and an addsub).
  */
-#if defined(TB_AVX2_KERNELS) && !TB_AVX2_HALVES
-/* AVX2 double: the cv_*_f64_avx2 operations of tb_fft_avx2.h. */
+#if defined(TB_REAL_F64)
+#define TB_CVW 2 /* complex values per cv: two doubles ... */
+#else
+#define TB_CVW 4 /* ... or four floats (one AVX2 register) */
+#endif
+#if defined(TB_AVX2_KERNELS)
+/* AVX2: the cv_*_f64_avx2 / cv_*_f32_avx2 operations of tb_fft_avx2.h. */
 #elif TB_PAIRS_SSE2 && defined(TB_REAL_F64)
 /* x86-64 without AVX2: one SSE2 register per complex double.  SSE2 has no
  * addsub, so it is the difference with its odd lane taken from the sum:
@@ -1038,8 +1045,13 @@ TB_INLINE SFX(cv) SFX(cv_set1)(REAL v)
 {
     return SFX(cv_pair)(_mm_set1_pd(v), _mm_set1_pd(v));
 }
-TB_INLINE SFX(cv) SFX(cv_lo)(SFX(cv) x, SFX(cv) y) { return SFX(cv_pair)(x.a, y.a); }
-TB_INLINE SFX(cv) SFX(cv_hi)(SFX(cv) x, SFX(cv) y) { return SFX(cv_pair)(x.b, y.b); }
+/* In place: complex c of u[r] <-> complex r of u[c], r, c < 2 */
+TB_INLINE void SFX(cv_transpose)(SFX(cv) *u)
+{
+    const __m128d t = u[0].b;
+    u[0].b = u[1].a;
+    u[1].a = t;
+}
 TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
 {
     return SFX(cv_pair)(_mm_loadu_pd(p), _mm_loadu_pd(p + 2));
@@ -1064,89 +1076,209 @@ TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) x)
     _mm_storeu_pd(out + 2 * k * os, x.a);
     _mm_storeu_pd(out + 2 * (k + 1) * os, x.b);
 }
-#else
+#elif TB_PAIRS_SSE2
+/* x86-64 without AVX2, float: four complex values in two SSE registers
+ * (two complex each).  SSE2 has neither addsub nor a lane blend: they are
+ * bit masks over the two IEEE results, the same values per lane. */
 typedef struct {
-    REAL r0, i0, r1, i1; /* named fields: compilers keep them in registers */
+    __m128 a, b; /* (r0, i0, r1, i1), (r2, i2, r3, i3) */
 } SFX(cv);
 
-TB_INLINE SFX(cv) SFX(cv_make)(REAL a, REAL b, REAL c, REAL d)
+TB_INLINE SFX(cv) SFX(cv_pair)(__m128 a, __m128 b)
 {
     SFX(cv) r;
-    r.r0 = a;
-    r.i0 = b;
-    r.r1 = c;
-    r.i1 = d;
+    r.a = a;
+    r.b = b;
     return r;
 }
+/* the imaginary lanes from y, the real lanes from x */
+TB_INLINE __m128 SFX(cv_pick_im)(__m128 x, __m128 y)
+{
+    const __m128 m = _mm_castsi128_ps(_mm_set_epi32(-1, 0, -1, 0));
+    return _mm_or_ps(_mm_and_ps(m, y), _mm_andnot_ps(m, x));
+}
+TB_INLINE SFX(cv) SFX(cv_add)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_add_ps(x.a, y.a), _mm_add_ps(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_sub)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_sub_ps(x.a, y.a), _mm_sub_ps(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_mul)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(_mm_mul_ps(x.a, y.a), _mm_mul_ps(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_addsub)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(SFX(cv_pick_im)(_mm_sub_ps(x.a, y.a), _mm_add_ps(x.a, y.a)),
+                        SFX(cv_pick_im)(_mm_sub_ps(x.b, y.b), _mm_add_ps(x.b, y.b)));
+}
+TB_INLINE SFX(cv) SFX(cv_swap)(SFX(cv) x)
+{
+    return SFX(cv_pair)(_mm_shuffle_ps(x.a, x.a, 0xB1), _mm_shuffle_ps(x.b, x.b, 0xB1));
+}
+TB_INLINE SFX(cv) SFX(cv_blend)(SFX(cv) x, SFX(cv) y)
+{
+    return SFX(cv_pair)(SFX(cv_pick_im)(x.a, y.a), SFX(cv_pick_im)(x.b, y.b));
+}
+TB_INLINE SFX(cv) SFX(cv_set1)(REAL v)
+{
+    return SFX(cv_pair)(_mm_set1_ps(v), _mm_set1_ps(v));
+}
+TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
+{
+    return SFX(cv_pair)(_mm_loadu_ps(p), _mm_loadu_ps(p + 4));
+}
+TB_INLINE void SFX(cv_store)(REAL *p, SFX(cv) x)
+{
+    _mm_storeu_ps(p, x.a);
+    _mm_storeu_ps(p + 4, x.b);
+}
+TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, ptrdiff_t e)
+{
+    return SFX(cv_pair)(_mm_set_ps(xi[(e + 1) * xs], xr[(e + 1) * xs], xi[e * xs], xr[e * xs]),
+                        _mm_set_ps(xi[(e + 3) * xs], xr[(e + 3) * xs], xi[(e + 2) * xs],
+                                   xr[(e + 2) * xs]));
+}
+TB_INLINE SFX(cv) SFX(cv_load_split)(const REAL *xr, const REAL *xi, ptrdiff_t e)
+{
+    const __m128 re = _mm_loadu_ps(xr + e), im = _mm_loadu_ps(xi + e);
+    return SFX(cv_pair)(_mm_unpacklo_ps(re, im), _mm_unpackhi_ps(re, im));
+}
+TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) x)
+{
+    _mm_storel_pi((__m64 *)(void *)(out + 2 * k * os), x.a);
+    _mm_storeh_pi((__m64 *)(void *)(out + 2 * (k + 1) * os), x.a);
+    _mm_storel_pi((__m64 *)(void *)(out + 2 * (k + 2) * os), x.b);
+    _mm_storeh_pi((__m64 *)(void *)(out + 2 * (k + 3) * os), x.b);
+}
+/* In place: complex c of u[r] <-> complex r of u[c], r, c < 4 */
+TB_INLINE void SFX(cv_transpose)(SFX(cv) *u)
+{
+    const __m128 a0 = u[0].a, b0 = u[0].b, a1 = u[1].a, b1 = u[1].b;
+    const __m128 a2 = u[2].a, b2 = u[2].b, a3 = u[3].a, b3 = u[3].b;
+    u[0] = SFX(cv_pair)(_mm_movelh_ps(a0, a1), _mm_movelh_ps(a2, a3));
+    u[1] = SFX(cv_pair)(_mm_movehl_ps(a1, a0), _mm_movehl_ps(a3, a2));
+    u[2] = SFX(cv_pair)(_mm_movelh_ps(b0, b1), _mm_movelh_ps(b2, b3));
+    u[3] = SFX(cv_pair)(_mm_movehl_ps(b1, b0), _mm_movehl_ps(b3, b2));
+}
+#else
+/* Plain C: 2 TB_CVW REALs, the same operation on every one. */
+typedef struct {
+    REAL v[2 * TB_CVW];
+} SFX(cv);
+
 TB_INLINE SFX(cv) SFX(cv_add)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.r0 + b.r0, a.i0 + b.i0, a.r1 + b.r1, a.i1 + b.i1);
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        a.v[l] = a.v[l] + b.v[l];
+    return a;
 }
 TB_INLINE SFX(cv) SFX(cv_sub)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.r0 - b.r0, a.i0 - b.i0, a.r1 - b.r1, a.i1 - b.i1);
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        a.v[l] = a.v[l] - b.v[l];
+    return a;
 }
 TB_INLINE SFX(cv) SFX(cv_mul)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.r0 * b.r0, a.i0 * b.i0, a.r1 * b.r1, a.i1 * b.i1);
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        a.v[l] = a.v[l] * b.v[l];
+    return a;
 }
-/* (a.r0 - b.r0, a.i0 + b.i0, a.r1 - b.r1, a.i1 + b.i1) */
+/* real parts a - b, imaginary parts a + b */
 TB_INLINE SFX(cv) SFX(cv_addsub)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.r0 - b.r0, a.i0 + b.i0, a.r1 - b.r1, a.i1 + b.i1);
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l += 2) {
+        a.v[l] = a.v[l] - b.v[l];
+        a.v[l + 1] = a.v[l + 1] + b.v[l + 1];
+    }
+    return a;
 }
 /* real and imaginary parts exchanged */
 TB_INLINE SFX(cv) SFX(cv_swap)(SFX(cv) a)
 {
-    return SFX(cv_make)(a.i0, a.r0, a.i1, a.r1);
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l += 2) {
+        const REAL r = a.v[l];
+        a.v[l] = a.v[l + 1];
+        a.v[l + 1] = r;
+    }
+    return a;
 }
 /* real parts from a, imaginary parts from b */
 TB_INLINE SFX(cv) SFX(cv_blend)(SFX(cv) a, SFX(cv) b)
 {
-    return SFX(cv_make)(a.r0, b.i0, a.r1, b.i1);
+    int l;
+    for (l = 1; l < 2 * TB_CVW; l += 2)
+        a.v[l] = b.v[l];
+    return a;
 }
-TB_INLINE SFX(cv) SFX(cv_set1)(REAL a)
+TB_INLINE SFX(cv) SFX(cv_set1)(REAL x)
 {
-    return SFX(cv_make)(a, a, a, a);
-}
-/* first complex of a then first of b; second of a then second of b */
-TB_INLINE SFX(cv) SFX(cv_lo)(SFX(cv) a, SFX(cv) b)
-{
-    return SFX(cv_make)(a.r0, a.i0, b.r0, b.i0);
-}
-TB_INLINE SFX(cv) SFX(cv_hi)(SFX(cv) a, SFX(cv) b)
-{
-    return SFX(cv_make)(a.r1, a.i1, b.r1, b.i1);
+    SFX(cv) a;
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        a.v[l] = x;
+    return a;
 }
 TB_INLINE SFX(cv) SFX(cv_load)(const REAL *p)
 {
-    return SFX(cv_make)(p[0], p[1], p[2], p[3]);
+    SFX(cv) a;
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        a.v[l] = p[l];
+    return a;
 }
 TB_INLINE void SFX(cv_store)(REAL *p, SFX(cv) a)
 {
-    p[0] = a.r0;
-    p[1] = a.i0;
-    p[2] = a.r1;
-    p[3] = a.i1;
+    int l;
+    for (l = 0; l < 2 * TB_CVW; l++)
+        p[l] = a.v[l];
 }
-/* elements e and e + 1 of a row whose element i is (xr[i xs], xi[i xs]) */
+/* elements e .. e + TB_CVW - 1 of a row whose element i is (xr[i xs], xi[i xs]) */
 TB_INLINE SFX(cv) SFX(cv_gather)(const REAL *xr, const REAL *xi, ptrdiff_t xs, ptrdiff_t e)
 {
-    return SFX(cv_make)(xr[e * xs], xi[e * xs], xr[(e + 1) * xs], xi[(e + 1) * xs]);
+    SFX(cv) a;
+    int c;
+    for (c = 0; c < TB_CVW; c++) {
+        a.v[2 * c] = xr[(e + c) * xs];
+        a.v[2 * c + 1] = xi[(e + c) * xs];
+    }
+    return a;
 }
-/* elements e and e + 1 of a split row (xs = 1): the same values as
- * SFX(cv_gather); the AVX2 copy loads them as two 128-bit halves */
+/* the same from a split row (xs = 1); the SIMD copies load it as halves */
 TB_INLINE SFX(cv) SFX(cv_load_split)(const REAL *xr, const REAL *xi, ptrdiff_t e)
 {
-    return SFX(cv_make)(xr[e], xi[e], xr[e + 1], xi[e + 1]);
+    return SFX(cv_gather)(xr, xi, 1, e);
 }
-/* the two complex values to out[2 k os] and out[2 (k + 1) os] */
+/* the TB_CVW complex values to out[2 (k + c) os], c < TB_CVW */
 TB_INLINE void SFX(cv_scatter)(REAL *out, ptrdiff_t os, ptrdiff_t k, SFX(cv) a)
 {
-    out[2 * k * os] = a.r0;
-    out[2 * k * os + 1] = a.i0;
-    out[2 * (k + 1) * os] = a.r1;
-    out[2 * (k + 1) * os + 1] = a.i1;
+    int c;
+    for (c = 0; c < TB_CVW; c++) {
+        out[2 * (k + c) * os] = a.v[2 * c];
+        out[2 * (k + c) * os + 1] = a.v[2 * c + 1];
+    }
+}
+/* In place: complex c of u[r] <-> complex r of u[c] (a TB_CVW x TB_CVW
+ * transpose of complex values). */
+TB_INLINE void SFX(cv_transpose)(SFX(cv) *u)
+{
+    int r, c;
+    for (r = 0; r < TB_CVW; r++)
+        for (c = r + 1; c < TB_CVW; c++) {
+            const REAL a = u[r].v[2 * c], b = u[r].v[2 * c + 1];
+            u[r].v[2 * c] = u[c].v[2 * r];
+            u[r].v[2 * c + 1] = u[c].v[2 * r + 1];
+            u[c].v[2 * r] = a;
+            u[c].v[2 * r + 1] = b;
+        }
 }
 #endif
 
@@ -1200,12 +1332,13 @@ TB_INLINE void SFX(dft64_pairs)(const REAL *cw, int inv, const REAL *xr, const R
                                 ptrdiff_t xs, REAL *out, ptrdiff_t os, REAL scale,
                                 REAL *TB_RESTRICT t, const int in_mode, const int out_mode)
 {
+    enum { W = TB_CVW, G = 8 / TB_CVW };
     const SFX(cv) sc = SFX(cv_set1)(scale);
-    ptrdiff_t p, q, j, k;
-    for (p = 0; p < 4; p++) { /* columns 2p and 2p + 1 */
+    ptrdiff_t p, q, j, k, c;
+    for (p = 0; p < G; p++) { /* columns W p .. W p + W - 1 */
         SFX(cv) v[8];
         for (j = 0; j < 8; j++) {
-            const ptrdiff_t e = 8 * j + 2 * p;
+            const ptrdiff_t e = 8 * j + W * p;
             const SFX(cv) a = in_mode == 1   ? SFX(cv_load)(xr + 2 * e)
                               : in_mode == 2 ? SFX(cv_load_split)(xr, xi, e)
                                              : SFX(cv_gather)(xr, xi, xs, e);
@@ -1213,29 +1346,30 @@ TB_INLINE void SFX(dft64_pairs)(const REAL *cw, int inv, const REAL *xr, const R
         }
         SFX(cv8)(v);
         for (k = 1; k < 8; k++) {
-            const REAL *w = cw + (p * 7 + k - 1) * 8;
+            const REAL *w = cw + (p * 7 + k - 1) * 4 * W;
             v[k] = SFX(cv_addsub)(SFX(cv_mul)(v[k], SFX(cv_load)(w)),
-                                  SFX(cv_mul)(SFX(cv_swap)(v[k]), SFX(cv_load)(w + 4)));
+                                  SFX(cv_mul)(SFX(cv_swap)(v[k]), SFX(cv_load)(w + 2 * W)));
         }
-        /* pair-transpose: T[2p, k1], T[2p, k1 + 1] and T[2p + 1, k1], ... */
-        for (q = 0; q < 4; q++) {
-            SFX(cv_store)(t + 2 * ((2 * p) * 8 + 2 * q), SFX(cv_lo)(v[2 * q], v[2 * q + 1]));
-            SFX(cv_store)(t + 2 * ((2 * p + 1) * 8 + 2 * q), SFX(cv_hi)(v[2 * q], v[2 * q + 1]));
+        /* block transposes, so that T[j2, k1 .. k1 + W - 1] are adjacent */
+        for (q = 0; q < G; q++) {
+            SFX(cv_transpose)(v + W * q);
+            for (c = 0; c < W; c++)
+                SFX(cv_store)(t + 2 * ((W * p + c) * 8 + W * q), v[W * q + c]);
         }
     }
-    for (q = 0; q < 4; q++) { /* rows 2q and 2q + 1 */
+    for (q = 0; q < G; q++) { /* rows W q .. W q + W - 1 */
         SFX(cv) v[8];
         for (j = 0; j < 8; j++)
-            v[j] = SFX(cv_load)(t + 2 * (j * 8 + 2 * q));
+            v[j] = SFX(cv_load)(t + 2 * (j * 8 + W * q));
         SFX(cv8)(v);
         for (k = 0; k < 8; k++) {
             SFX(cv) a = SFX(cv_mul)(sc, v[k]);
             if (inv)
                 a = SFX(cv_swap)(a);
             if (out_mode)
-                SFX(cv_store)(out + 2 * (2 * q + 8 * k), a);
+                SFX(cv_store)(out + 2 * (W * q + 8 * k), a);
             else
-                SFX(cv_scatter)(out, os, 2 * q + 8 * k, a);
+                SFX(cv_scatter)(out, os, W * q + 8 * k, a);
         }
     }
 }
@@ -1285,7 +1419,7 @@ static void SFX(run_passes)(const tb_fft_plan *p, int inv, const REAL *xr,
     const REAL *tw = (const REAL *)p->twiddles;
     ptrdiff_t xpad = 0;
     int ip;
-    if (p->codelet) { /* n = 64, double: the 8 x 8 form above, scratch W1 */
+    if (p->codelet) { /* n = 64: the 8 x 8 form above, scratch W1 */
         SFX(row_dft64)(p, inv, xr, xi, xs, out, os, scale, work + 2 * half);
         return;
     }
@@ -1400,3 +1534,4 @@ static void SFX(rows)(const tb_fft_plan *p, int inv, size_t batch, const REAL *i
 #undef TB_TRY_VPASS
 #undef TB_DEFINE_LANE_PASS
 #undef TB_LANES
+#undef TB_CVW

@@ -39,8 +39,8 @@ struct tb_fft_plan {
     size_t half;          /* REALs per part of the workspace */
     ptrdiff_t pad;        /* REALs between output slots: TB_PAD or 0 */
     int lanes;            /* 1: batches may run TB_FFT_LANES rows at once */
-    int codelet;          /* 1: n = 64, double: the 8 x 8 form of
-                           * tb_fft_impl.h replaces the passes and lanes */
+    int codelet;          /* 1: n = 64: the 8 x 8 form of tb_fft_impl.h
+                           * replaces the passes and lanes */
     size_t ntwiddle;      /* complex entries in the table */
     const void *twiddles; /* float or double, inside this block */
 };

@@ -99,8 +99,8 @@ const char *tb_fft_plan_simd(const tb_fft_plan *plan);
 
 /* Bytes of caller-owned workspace that tb_fft_execute_* needs with this
  * plan, whatever the batch count and strides (currently 4 * h scalars
- * of the plan's precision, h = n plus at most 112, or 8 n when n <= 64
- * except n = 64 in double precision, where h = 64; 0 for a NULL plan).
+ * of the plan's precision, h = n plus at most 112, or 8 n when n < 64;
+ * 0 for a NULL plan).
  * The workspace must be aligned for double and must not overlap the
  * input or output.  One workspace per concurrent caller. */
 size_t tb_fft_workspace_size(const tb_fft_plan *plan);
