@@ -174,15 +174,8 @@ int SFX(tb_ofdm_synthesize)(const tb_ofdm_plan *plan, size_t batch, size_t n_sym
             REAL *body = sym + 2 * ncp;
             const REAL *sa = a + 2 * (q * a_batch_stride + s * a_symbol_stride);
             const REAL *sb = b ? b + 2 * (q * b_batch_stride + s * b_symbol_stride) : NULL;
-            if (f->codelet) {
-                /* the 64-point form reads interleaved pairs: scatter into
-                 * an interleaved row (block copies of the runs) in W0 */
-                SFX(scatter)(plan, sa, sb, w, w + 1, 2);
-                SFX(tb_fft_core_row)(f, 1, w, w + 1, 2, body, 1, scale, w);
-            } else {
-                SFX(scatter)(plan, sa, sb, w, w + f->half, 1);
-                SFX(tb_fft_core_row)(f, 1, w, w + f->half, 1, body, 1, scale, w);
-            }
+            SFX(scatter)(plan, sa, sb, w, w + f->half, 1);
+            SFX(tb_fft_core_row)(f, 1, w, w + f->half, 1, body, 1, scale, w);
             if (ncp > 0)
                 memcpy(sym, body + 2 * (n - ncp), 2 * ncp * sizeof(REAL));
             tb_ofdm_next(&c, n, n_symbols, cp);

@@ -12,8 +12,9 @@ model.
 
 Outside reference: the OQAM signal model (P. Siohan, C. Siclet,
 N. Lacaille, "Analysis and design of OFDM/OQAM systems based on filterbank
-theory", IEEE Trans. Signal Processing 50(5), 2002: staggered real
-half-symbols with phase j^(k+n), the prototype centred at K M / 2), each
+theory", IEEE Trans. Signal Processing 50(5), 2002, from memory, not
+re-read: staggered real half-symbols with phase j^(k+n), the prototype
+centred at K M / 2), each
 half-symbol's period from ``scipy.fft.ifft`` (a general-purpose reference
 library), periodically extended and weighted by the prototype: two
 transforms per symbol and none of the kernel's shared-FFT symmetry,

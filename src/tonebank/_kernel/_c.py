@@ -235,34 +235,26 @@ def fft_runner(n: int, dtype: np.dtype, inverse: bool, scale: float):
     def run(x, out=None):
         # `out`, when given, has x's shape and the result dtype and does
         # not overlap x unless it is x (the caller checked).
-        if out is None:
-            if x.size <= _COPY_IN_PLACE_MAX:
-                # A small input (one short symbol): a C-ordered copy
-                # transformed in place costs less than an empty result, the
-                # layout checks and a second buffer export.
-                out = x.copy()
-                batch = out.size // n
-                if batch:
-                    p = from_buffer(out)
-                    status = rows(call, batch, p, p,
-                                  thread.buf if thread.nbytes >= need else _workspace(need))
-                    if status:
-                        _check(status, "an FFT")
-                return out
-            out = empty(x.shape, dtype)
-        elif not out.flags.carray:
-            fft(x, out, inverse, scale)
-            return out
-        flags = x.flags              # the input may be read-only (not "carray")
-        if flags.c_contiguous and flags.aligned:
-            batch = x.size // n
-            if batch:
-                status = rows(call, batch, from_buffer(x), from_buffer(out),
-                              thread.buf if thread.nbytes >= need else _workspace(need))
-                if status:
-                    _check(status, "an FFT")
+        if out is None and x.size <= _COPY_IN_PLACE_MAX:
+            # A small input (one short symbol): a C-ordered copy transformed
+            # in place costs less than an empty result, the layout checks
+            # and a second buffer export.
+            out = x.copy()
+            src = dst = from_buffer(out)
         else:
-            fft(x, out, inverse, scale)
+            if out is None:
+                out = empty(x.shape, dtype)
+            flags = x.flags          # the input may be read-only (not "carray")
+            if not (out.flags.carray and flags.c_contiguous and flags.aligned):
+                fft(x, out, inverse, scale)
+                return out
+            src, dst = from_buffer(x), from_buffer(out)
+        batch = out.size // n
+        if batch:
+            status = rows(call, batch, src, dst,
+                          thread.buf if thread.nbytes >= need else _workspace(need))
+            if status:
+                _check(status, "an FFT")
         return out
     return run
 
